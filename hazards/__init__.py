@@ -1,0 +1,1 @@
+"""Exoledger: thermal-safety review records for chemical plants."""

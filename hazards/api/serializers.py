@@ -1,0 +1,249 @@
+"""Serializers of the published resources (names fixed by the API contract: add, never rename)."""
+
+from __future__ import annotations
+
+from django.core.exceptions import ValidationError as DjangoValidationError
+from rest_framework import serializers
+
+from hazards.api.fields import QuantityField
+from hazards.models import (
+    CalorimetryRun,
+    DecompositionTest,
+    IndicatorSnapshot,
+    Process,
+    ReactionStep,
+    Site,
+    Solvent,
+    Vessel,
+)
+from hazards.quantities import display_unit, from_si
+from hazards.services.records import record_create, record_update
+
+
+class RecordSerializer(serializers.ModelSerializer):
+    """Writes through the record services; model validation errors come back per API field."""
+
+    def _api_name(self, model_field: str) -> str:
+        for name, field in self.fields.items():
+            if field.source == model_field or name == model_field:
+                return name
+        return model_field
+
+    def _run(self, action, **kwargs):
+        try:
+            return action(**kwargs)
+        except DjangoValidationError as exc:
+            if hasattr(exc, "error_dict"):
+                detail = {
+                    self._api_name(key) if key != "__all__" else "non_field_errors": [
+                        m for e in errors for m in e.messages
+                    ]
+                    for key, errors in exc.error_dict.items()
+                }
+            else:
+                detail = {"non_field_errors": exc.messages}
+            raise serializers.ValidationError(detail) from None
+
+    def create(self, validated_data):
+        return self._run(record_create, model=self.Meta.model, data=validated_data)
+
+    def update(self, instance, validated_data):
+        return self._run(record_update, instance=instance, data=validated_data)
+
+
+class SiteSerializer(RecordSerializer):
+    class Meta:
+        model = Site
+        fields = ["id", "code", "name", "revalidation_interval_months"]
+
+
+class ProcessSerializer(RecordSerializer):
+    site = serializers.SlugRelatedField(slug_field="code", queryset=Site.objects.all())
+
+    class Meta:
+        model = Process
+        fields = ["id", "name", "description", "site"]
+
+
+class SolventSerializer(RecordSerializer):
+    antoine_t_min = QuantityField("temperature", source="antoine_t_min_k", required=False,
+                                  allow_null=True)
+    antoine_t_max = QuantityField("temperature", source="antoine_t_max_k", required=False,
+                                  allow_null=True)
+
+    class Meta:
+        model = Solvent
+        fields = [
+            "id", "name", "cas_number", "vapour_pressure_source", "antoine_a", "antoine_b",
+            "antoine_c", "antoine_log_base", "antoine_pressure_unit", "antoine_temperature_unit",
+            "antoine_t_min", "antoine_t_max", "antoine_source",
+        ]
+
+
+class VesselSerializer(RecordSerializer):
+    volume = QuantityField("volume", source="volume_m3")
+    heat_transfer_area = QuantityField("area", source="heat_transfer_area_m2")
+    heat_transfer_coefficient = QuantityField(
+        "heat_transfer_coefficient", source="heat_transfer_coefficient_w_per_m2_k"
+    )
+    coolant_temperature = QuantityField("temperature", source="coolant_temperature_k")
+    design_pressure = QuantityField("pressure", source="design_pressure_pa")
+    relief_set_pressure = QuantityField("pressure", source="relief_set_pressure_pa")
+    headspace_volume = QuantityField("volume", source="headspace_volume_m3", required=False,
+                                     allow_null=True)
+
+    class Meta:
+        model = Vessel
+        fields = [
+            "id", "name", "tag", "volume", "heat_transfer_area", "heat_transfer_coefficient",
+            "coolant_temperature", "design_pressure", "relief_set_pressure", "headspace_volume",
+        ]
+
+
+# Indicator values: API key -> (key in the snapshot's SI values, quantity kind or None).
+INDICATOR_FIELDS = {
+    "adiabatic_temperature_rise": ("adiabatic_temperature_rise_k", "temperature_difference"),
+    "mtsr": ("mtsr_k", "temperature"),
+    "mtt": ("mtt_k", "temperature"),
+    "td24": ("td24_k", "temperature"),
+    "tmr_ad_at_mtsr": ("tmr_ad_at_mtsr_s", "duration_h"),
+}
+
+
+def _quantity(value, kind):
+    if value is None:
+        return None
+    return {"value": from_si(value, kind=kind), "unit": display_unit(kind)}
+
+
+def indicators_payload(snapshot: IndicatorSnapshot | None) -> dict | None:
+    """The `indicators` object of the API contract, from a stored snapshot."""
+    if snapshot is None:
+        return None
+    values = snapshot.values
+    payload = {
+        name: _quantity(values.get(key), kind) for name, (key, kind) in INDICATOR_FIELDS.items()
+    }
+    payload.update(
+        criticality_class=values.get("criticality_class"),
+        severity=values.get("severity"),
+        probability=values.get("probability"),
+        risk_cell=values.get("risk_cell"),
+        cooling_margin=values.get("cooling_margin"),
+        cooling_capacity=_quantity(values.get("cooling_capacity_w"), "power"),
+        plant_peak_heat_release=_quantity(values.get("plant_peak_heat_release_w"), "power"),
+        minimum_dosing_time=_quantity(values.get("minimum_dosing_time_s"), "time"),
+        mtsr_time=_quantity(values.get("mtsr_time_s"), "time"),
+        end_pressure=_quantity(values.get("end_pressure_pa"), "pressure"),
+        td24_below_process_temperature=values.get("td24_below_process_temperature"),
+        warnings=list(snapshot.warnings),
+        methods=dict(snapshot.methods),
+        parameters=dict(snapshot.parameters),
+        references=list(snapshot.references),
+        inputs_hash=snapshot.inputs_hash,
+        calcs_version=snapshot.calcs_version,
+        computed_at=snapshot.computed_at.isoformat().replace("+00:00", "Z"),
+    )
+    return payload
+
+
+class StepSerializer(RecordSerializer):
+    process = serializers.PrimaryKeyRelatedField(queryset=Process.objects.all())
+    solvent = serializers.PrimaryKeyRelatedField(
+        queryset=Solvent.objects.all(), required=False, allow_null=True
+    )
+    vessel = serializers.PrimaryKeyRelatedField(
+        queryset=Vessel.objects.all(), required=False, allow_null=True
+    )
+    process_temperature = QuantityField("temperature", source="process_temperature_k")
+    reaction_mass = QuantityField("mass", source="reaction_mass_kg")
+    specific_heat_capacity = QuantityField(
+        "specific_heat_capacity", source="specific_heat_capacity_j_per_kg_k"
+    )
+    operating_pressure = QuantityField("pressure", source="operating_pressure_pa")
+    dosing_time = QuantityField("time", source="dosing_time_s", required=False, allow_null=True)
+    mtt_override = QuantityField("temperature", source="mtt_override_k", required=False,
+                                 allow_null=True)
+    indicators = serializers.SerializerMethodField()
+    needs_review = serializers.BooleanField(read_only=True)
+
+    class Meta:
+        model = ReactionStep
+        fields = [
+            "id", "process", "sequence", "name", "operation_mode", "process_temperature",
+            "reaction_mass", "specific_heat_capacity", "system", "operating_pressure", "solvent",
+            "vessel", "dosing_time", "mtt_override", "mtt_override_reason", "needs_review",
+            "indicators",
+        ]
+
+    def get_indicators(self, step) -> dict | None:
+        current = getattr(step, "current_snapshots", None)
+        if current is not None:
+            return indicators_payload(current[0] if current else None)
+        return indicators_payload(step.snapshots.filter(is_current=True).first())
+
+
+class CalorimetryRunSerializer(RecordSerializer):
+    step = serializers.PrimaryKeyRelatedField(queryset=ReactionStep.objects.all())
+    specific_reaction_heat = QuantityField(
+        "specific_energy", source="specific_reaction_heat_j_per_kg"
+    )
+    max_accumulation = QuantityField("fraction", required=False, allow_null=True)
+    max_heat_release_rate = QuantityField(
+        "specific_power", source="max_heat_release_rate_w_per_kg", required=False, allow_null=True
+    )
+    gas_release = QuantityField(
+        "specific_amount", source="gas_release_mol_per_kg", required=False, allow_null=True
+    )
+    lab_scale = QuantityField("mass", source="lab_scale_kg", required=False, allow_null=True)
+
+    class Meta:
+        model = CalorimetryRun
+        fields = [
+            "id", "step", "instrument", "run_date", "lab_scale", "specific_reaction_heat",
+            "max_accumulation", "max_heat_release_rate", "gas_release", "raw_file_name",
+            "raw_file_sha256", "is_basis", "notes",
+        ]
+        read_only_fields = ["raw_file_sha256"]
+
+
+class DecompositionTestSerializer(RecordSerializer):
+    step = serializers.PrimaryKeyRelatedField(queryset=ReactionStep.objects.all())
+    onset_temperature = QuantityField("temperature", source="onset_temperature_k")
+    decomposition_energy = QuantityField("specific_energy", source="decomposition_energy_j_per_kg")
+    heating_rate = QuantityField(
+        "heating_rate", source="heating_rate_k_per_s", required=False, allow_null=True
+    )
+    sample_mass = QuantityField("mass", source="sample_mass_kg", required=False, allow_null=True)
+    activation_energy = QuantityField(
+        "molar_energy", source="activation_energy_j_per_mol", required=False, allow_null=True
+    )
+    reference_temperature = QuantityField(
+        "temperature", source="reference_temperature_k", required=False, allow_null=True
+    )
+    heat_release_rate_at_reference = QuantityField(
+        "specific_power", source="heat_release_rate_at_reference_w_per_kg", required=False,
+        allow_null=True,
+    )
+    phi_factor = QuantityField("phi_factor", required=False, allow_null=True)
+
+    class Meta:
+        model = DecompositionTest
+        fields = [
+            "id", "step", "method", "test_date", "instrument", "sample_mass", "heating_rate",
+            "crucible", "onset_temperature", "decomposition_energy", "activation_energy",
+            "reference_temperature", "heat_release_rate_at_reference", "phi_factor", "is_basis",
+            "notes",
+        ]
+
+
+class IndicatorSnapshotSerializer(serializers.ModelSerializer):
+    indicators = serializers.SerializerMethodField()
+
+    class Meta:
+        model = IndicatorSnapshot
+        fields = ["id", "computed_at", "is_current", "inputs_hash", "calcs_version", "indicators",
+                  "inputs"]
+
+    def get_indicators(self, snapshot) -> dict:
+        return indicators_payload(snapshot)

@@ -1,0 +1,22 @@
+from django.urls import include, path
+from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerView
+from rest_framework.routers import DefaultRouter
+
+from hazards.api import views
+from hazards.api.token_views import ObtainTokenView
+
+router = DefaultRouter()
+router.register("sites", views.SiteViewSet, basename="site")
+router.register("processes", views.ProcessViewSet, basename="process")
+router.register("steps", views.StepViewSet, basename="step")
+router.register("calorimetry-runs", views.CalorimetryRunViewSet, basename="calorimetryrun")
+router.register("decomposition-tests", views.DecompositionTestViewSet, basename="decompositiontest")
+router.register("vessels", views.VesselViewSet, basename="vessel")
+router.register("solvents", views.SolventViewSet, basename="solvent")
+
+urlpatterns = [
+    path("auth/token/", ObtainTokenView.as_view(), name="api-token"),
+    path("schema/", SpectacularAPIView.as_view(), name="api-schema"),
+    path("docs/", SpectacularSwaggerView.as_view(url_name="api-schema"), name="api-docs"),
+    path("", include(router.urls)),
+]

@@ -1,0 +1,77 @@
+"""Where the database is: `DATABASE_URL`, or an embedded PostgreSQL started on demand.
+
+Only PostgreSQL is supported, so that triggers, constraints, locks and JSONB behave the
+same in the demo, the test suite and production.
+"""
+
+from __future__ import annotations
+
+import os
+import sys
+from pathlib import Path
+
+import dj_database_url
+from django.core.exceptions import ImproperlyConfigured
+
+BASE_DIR = Path(__file__).resolve().parent.parent
+EMBEDDED_DB_NAME = "exoledger"
+
+
+def data_dir() -> Path:
+    """The folder of the embedded server's data (`EXOLEDGER_DATA_DIR`, default `var/`)."""
+    raw = os.environ.get("EXOLEDGER_DATA_DIR")
+    return Path(raw).expanduser().resolve() if raw else BASE_DIR / "var"
+
+
+def _embedded_url() -> str:
+    """Start (or join) the embedded server and return a URL to the project's database."""
+    try:
+        import warnings
+
+        with warnings.catch_warnings():
+            # platformdirs warns when XDG_RUNTIME_DIR is unset (headless servers, CI).
+            warnings.simplefilter("ignore")
+            import pgserver
+    except ImportError as exc:  # pragma: no cover - pgserver is a declared dependency
+        raise ImproperlyConfigured(
+            "DATABASE_URL is not set and the embedded PostgreSQL (pgserver) is not installed."
+        ) from exc
+    folder = data_dir() / "pgdata"
+    folder.parent.mkdir(parents=True, exist_ok=True)
+    # cleanup_mode=None: the server outlives this process, so manage.py, gunicorn, the
+    # worker and the tests share one server instead of each starting their own.
+    server = pgserver.get_server(str(folder), cleanup_mode=None)
+    exists = server.psql(
+        f"SELECT 1 FROM pg_database WHERE datname = '{EMBEDDED_DB_NAME}';"
+    )
+    if "(1 row)" not in exists:
+        server.psql(f"CREATE DATABASE {EMBEDDED_DB_NAME};")
+    return server.get_uri(EMBEDDED_DB_NAME)
+
+
+def database_settings() -> dict:
+    """Django's DATABASES['default'] for this environment."""
+    url = os.environ.get("DATABASE_URL") or _embedded_url()
+    config = dj_database_url.parse(url, conn_max_age=int(os.environ.get("EXOLEDGER_CONN_MAX_AGE", "0")))
+    if config["ENGINE"] not in ("django.db.backends.postgresql",):
+        raise ImproperlyConfigured(
+            f"DATABASE_URL={url!r}: only PostgreSQL is supported (postgres:// or postgresql://)."
+        )
+    if config.get("HOST", "").startswith("/") and not config.get("PORT"):
+        config["PORT"] = ""
+    config.setdefault("OPTIONS", {})
+    config["OPTIONS"].setdefault("connect_timeout", 5)
+    config["TEST"] = {"NAME": os.environ.get("EXOLEDGER_TEST_DB_NAME") or None}
+    return config
+
+
+def describe(config: dict) -> str:
+    host = config.get("HOST") or "localhost"
+    port = config.get("PORT") or ""
+    where = f"{host}:{port}" if port else host
+    return f"{config.get('NAME')} on {where}"
+
+
+def fail(message: str) -> None:
+    print(f"exoledger: {message}", file=sys.stderr)
+    raise SystemExit(2)

@@ -1,0 +1,50 @@
+"""Which stored SI field holds which kind of quantity (used by forms, admin and history)."""
+
+from __future__ import annotations
+
+QUANTITY_FIELDS: dict[str, dict[str, str]] = {
+    "vessel": {
+        "volume_m3": "volume",
+        "heat_transfer_area_m2": "area",
+        "heat_transfer_coefficient_w_per_m2_k": "heat_transfer_coefficient",
+        "coolant_temperature_k": "temperature",
+        "design_pressure_pa": "pressure",
+        "relief_set_pressure_pa": "pressure",
+        "headspace_volume_m3": "volume",
+    },
+    "solvent": {"antoine_t_min_k": "temperature", "antoine_t_max_k": "temperature"},
+    "reactionstep": {
+        "process_temperature_k": "temperature",
+        "reaction_mass_kg": "mass",
+        "specific_heat_capacity_j_per_kg_k": "specific_heat_capacity",
+        "operating_pressure_pa": "pressure",
+        "dosing_time_s": "time",
+        "mtt_override_k": "temperature",
+    },
+    "calorimetryrun": {
+        "lab_scale_kg": "mass",
+        "specific_reaction_heat_j_per_kg": "specific_energy",
+        "max_accumulation": "fraction",
+        "max_heat_release_rate_w_per_kg": "specific_power",
+        "gas_release_mol_per_kg": "specific_amount",
+    },
+    "decompositiontest": {
+        "sample_mass_kg": "mass",
+        "heating_rate_k_per_s": "heating_rate",
+        "onset_temperature_k": "temperature",
+        "decomposition_energy_j_per_kg": "specific_energy",
+        "activation_energy_j_per_mol": "molar_energy",
+        "reference_temperature_k": "temperature",
+        "heat_release_rate_at_reference_w_per_kg": "specific_power",
+        "phi_factor": "phi_factor",
+    },
+    "decompositionpeak": {
+        "heating_rate_k_per_s": "heating_rate",
+        "peak_temperature_k": "temperature",
+    },
+    "calorimetryseries": {"initial_mass_kg": "mass", "feed_mass_kg": "mass"},
+}
+
+
+def kinds_for(model) -> dict[str, str]:
+    return QUANTITY_FIELDS.get(model._meta.model_name, {})

@@ -1,0 +1,59 @@
+"""Form edge: a value-and-unit input for every quantity, stored in SI."""
+
+from __future__ import annotations
+
+from django import forms
+
+from hazards.fieldkinds import kinds_for
+from hazards.quantities import SPECS, QuantityError, display_unit, from_si, parse_quantity
+
+
+class QuantityFormField(forms.CharField):
+    """Accepts "30 °C", "86 degF", "2 bar g", or a number in the canonical unit."""
+
+    def __init__(self, *, kind: str, **kwargs):
+        self.kind = kind
+        unit = display_unit(kind) or "dimensionless"
+        kwargs.setdefault("help_text", f"A value with its unit; a bare number is read as {unit}.")
+        super().__init__(**kwargs)
+        self.widget.attrs.setdefault("inputmode", "decimal")
+        self.widget.attrs.setdefault("data-canonical-unit", unit)
+
+    def prepare_value(self, value):
+        if isinstance(value, float | int) and not isinstance(value, bool):
+            shown = from_si(float(value), kind=self.kind)
+            unit = display_unit(self.kind)
+            return f"{shown:.10g} {unit}".strip()
+        return value
+
+    def to_python(self, value):
+        value = super().to_python(value)
+        if value in self.empty_values:
+            return None
+        try:
+            return parse_quantity(value, field=self.label or self.kind, kind=self.kind)
+        except QuantityError as exc:
+            raise forms.ValidationError(exc.message, code=exc.code) from None
+
+
+def quantity_formfield_callback(model):
+    """A `formfield_callback` that swaps each SI float field for a quantity input."""
+    kinds = kinds_for(model)
+
+    def callback(field, **kwargs):
+        if field.name in kinds:
+            assert kinds[field.name] in SPECS
+            return QuantityFormField(
+                kind=kinds[field.name],
+                required=not (field.null or field.blank),
+                label=field.verbose_name.capitalize(),
+            )
+        return field.formfield(**kwargs)
+
+    return callback
+
+
+def quantity_modelform(model, fields="__all__"):
+    return forms.modelform_factory(
+        model, fields=fields, formfield_callback=quantity_formfield_callback(model)
+    )

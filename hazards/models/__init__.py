@@ -1,0 +1,27 @@
+from hazards.models.indicators import IndicatorSnapshot, PendingRecompute
+from hazards.models.measurements import (
+    CalorimetryRun,
+    CalorimetrySeries,
+    DecompositionPeak,
+    DecompositionTest,
+)
+from hazards.models.process import Process, ReactionStep, Site
+from hazards.models.reference import Solvent, Vessel
+from hazards.models.tokens import ApiToken
+
+__all__ = [
+    "ApiToken",
+    "CalorimetryRun",
+    "CalorimetrySeries",
+    "DecompositionPeak",
+    "DecompositionTest",
+    "IndicatorSnapshot",
+    "PendingRecompute",
+    "Process",
+    "ReactionStep",
+    "Site",
+    "Solvent",
+    "Vessel",
+]
+
+from hazards.models import triggers  # noqa: E402,F401  (registers the database triggers)

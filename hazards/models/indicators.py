@@ -1,0 +1,57 @@
+"""Computed indicator snapshots and the queue of steps whose snapshot must be recomputed."""
+
+from __future__ import annotations
+
+from django.db import models
+from django.db.models import Q
+
+
+class IndicatorSnapshot(models.Model):
+    """The indicator set of one step, computed from one exact set of inputs.
+
+    Earlier snapshots are kept; the current one is flagged. Values are SI floats.
+    """
+
+    step = models.ForeignKey(
+        "hazards.ReactionStep", on_delete=models.CASCADE, related_name="snapshots"
+    )
+    computed_at = models.DateTimeField()
+    inputs = models.JSONField()
+    inputs_hash = models.CharField(max_length=64)
+    calcs_version = models.CharField(max_length=20)
+    values = models.JSONField()
+    methods = models.JSONField(default=dict)
+    parameters = models.JSONField(default=dict)
+    warnings = models.JSONField(default=list)
+    references = models.JSONField(default=list)
+    criticality_class = models.PositiveSmallIntegerField(null=True, blank=True)
+    is_current = models.BooleanField(default=True)
+
+    class Meta:
+        ordering = ["step_id", "-computed_at", "-id"]
+        get_latest_by = "computed_at"
+        constraints = [
+            models.UniqueConstraint(
+                fields=["step"], condition=Q(is_current=True), name="snapshot_one_current_per_step"
+            ),
+            models.CheckConstraint(
+                condition=Q(criticality_class__isnull=True)
+                | (Q(criticality_class__gte=1) & Q(criticality_class__lte=5)),
+                name="snapshot_class_one_to_five",
+            ),
+        ]
+        indexes = [models.Index(fields=["criticality_class"], condition=Q(is_current=True),
+                                name="snapshot_current_class_idx")]
+
+    def __str__(self) -> str:
+        return f"Indicators of step {self.step_id} at {self.computed_at:%Y-%m-%d %H:%M:%S}"
+
+
+class PendingRecompute(models.Model):
+    """A step queued by a database trigger; drained before the transaction commits."""
+
+    step_id = models.BigIntegerField(db_index=True)
+    queued_at = models.DateTimeField(auto_now_add=True)
+
+    class Meta:
+        ordering = ["id"]

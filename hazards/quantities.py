@@ -1,0 +1,228 @@
+"""Quantities at the edge: every physical input arrives with a unit and is stored in SI.
+
+Forms, API serializers and CSV import all go through `parse_quantity`, so one rule set
+decides what is accepted, and every refusal names the field, the value and the rule.
+Conversion factors come from pint's registry (`calcs.units.ureg`), whose definitions follow
+NIST SP 811 and ISO 80000; gauge pressures are their own units (`bar_g`, `psig`, `kPa_g`),
+so gauge and absolute are never confused.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+from numbers import Real
+
+import pint
+
+from calcs.units import Q_, ureg
+
+ABSOLUTE_ZERO_K = 0.0
+
+
+class QuantityError(ValueError):
+    """A value that cannot be accepted; the message names field, value and rule."""
+
+    def __init__(self, field: str, value, rule: str, code: str = "invalid"):
+        self.field, self.value, self.rule, self.code = field, value, rule, code
+        super().__init__(f"{field} = {value!r}: {rule}")
+
+    @property
+    def message(self) -> str:
+        return f"{self.value!r}: {self.rule}"
+
+
+@dataclass(frozen=True)
+class QuantitySpec:
+    """How one stored field is written at the edge and what values are physical."""
+
+    si_unit: str
+    canonical_unit: str
+    minimum: float | None = None  # in SI
+    minimum_inclusive: bool = False
+    maximum: float | None = None
+    maximum_inclusive: bool = True
+    rule: str = ""
+    accepts_molar: bool = False  # kJ/mol with a molar mass, for specific energies
+
+    @property
+    def dimensionality(self):
+        return ureg.Unit(self.si_unit).dimensionality
+
+
+TEMPERATURE = QuantitySpec("kelvin", "degC", 0.0, False, rule="must be above absolute zero (0 K)")
+# (si unit, canonical unit) of each kind; physical limits per field below.
+POSITIVE = "must be greater than zero"
+NON_NEGATIVE = "must not be negative"
+
+SPECS: dict[str, QuantitySpec] = {
+    "temperature": TEMPERATURE,
+    "mass": QuantitySpec("kilogram", "kg", 0.0, False, rule=POSITIVE),
+    "specific_heat_capacity": QuantitySpec("J/(kg*K)", "kJ/(kg*K)", 0.0, False, rule=POSITIVE),
+    "pressure": QuantitySpec(
+        "pascal", "bar", 0.0, False, rule="must be an absolute pressure above zero"
+    ),
+    "time": QuantitySpec("second", "min", 0.0, False, rule=POSITIVE),
+    "specific_energy": QuantitySpec(
+        "J/kg", "kJ/kg", 0.0, True,
+        rule="must not be negative (heat released is stored as a positive number)",
+        accepts_molar=True,
+    ),
+    "fraction": QuantitySpec(
+        "dimensionless", "dimensionless", 0.0, True, 1.0, True, rule="must be a fraction in 0..1"
+    ),
+    "specific_power": QuantitySpec("W/kg", "W/kg", 0.0, True, rule=NON_NEGATIVE),
+    "specific_amount": QuantitySpec("mol/kg", "mol/kg", 0.0, True, rule=NON_NEGATIVE),
+    "heating_rate": QuantitySpec("K/s", "K/min", 0.0, False, rule=POSITIVE),
+    "molar_energy": QuantitySpec("J/mol", "kJ/mol", 0.0, False, rule=POSITIVE),
+    "volume": QuantitySpec("m**3", "m**3", 0.0, False, rule=POSITIVE),
+    "area": QuantitySpec("m**2", "m**2", 0.0, False, rule=POSITIVE),
+    "heat_transfer_coefficient": QuantitySpec("W/(m**2*K)", "W/(m**2*K)", 0.0, False, rule=POSITIVE),
+    "phi_factor": QuantitySpec(
+        "dimensionless", "dimensionless", 1.0, True, rule="the phi factor is at least 1"
+    ),
+    "molar_mass": QuantitySpec("kg/mol", "g/mol", 0.0, False, rule=POSITIVE),
+    "power": QuantitySpec("watt", "W", None, rule=""),
+    "temperature_difference": QuantitySpec("kelvin", "K", None, rule=""),
+    "duration_h": QuantitySpec("second", "h", 0.0, False, rule=POSITIVE),
+}
+
+# How units are written in the API's canonical output (pint's own spelling).
+DISPLAY = {
+    "degC": "degC",
+    "kJ/(kg*K)": "kJ/(kg·K)",
+    "W/(m**2*K)": "W/(m²·K)",
+    "m**3": "m³",
+    "m**2": "m²",
+    "dimensionless": "",
+}
+
+_GAUGE = [
+    (re.compile(r"\bbar\s*\(?\s*g(auge)?\s*\)?$", re.I), "bar_g"),
+    (re.compile(r"\bbarg$", re.I), "bar_g"),
+    (re.compile(r"\bkPa\s*\(?\s*g(auge)?\s*\)?$", re.I), "kPa_g"),
+    (re.compile(r"\bpsi\s*\(?\s*g(auge)?\s*\)?$", re.I), "psig"),
+    (re.compile(r"\bbar\s*\(?\s*a(bs(olute)?)?\s*\)?$", re.I), "bar"),
+    (re.compile(r"\bbara$", re.I), "bar"),
+    (re.compile(r"\bpsi\s*\(?\s*a(bs(olute)?)?\s*\)?$", re.I), "psi"),
+]
+_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+
+
+def normalise_unit(text: str) -> str:
+    """Spellings practitioners type, mapped to registry names ('°C', 'bar g', 'mW/g')."""
+    unit = text.strip()
+    for pattern, name in _GAUGE:
+        if pattern.search(unit) and pattern.sub("", unit).strip() == "":
+            return name
+    unit = unit.replace("°C", "degC").replace("℃", "degC").replace("°F", "degF")
+    unit = unit.replace("° C", "degC").replace("° F", "degF").replace("·", "*").replace("²", "**2")
+    unit = unit.replace("³", "**3").replace("⁻¹", "**-1")
+    return unit
+
+
+def _finite_number(field: str, value) -> float:
+    if isinstance(value, bool) or not isinstance(value, Real):
+        raise QuantityError(field, value, "must be a number", "not_a_number")
+    number = float(value)
+    if not math.isfinite(number):
+        raise QuantityError(field, value, "must be a finite number", "not_finite")
+    return number
+
+
+def _unit(field: str, unit_text: str) -> pint.Unit:
+    try:
+        return ureg.Unit(normalise_unit(unit_text))
+    except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError, AttributeError,
+            ValueError, TypeError, AssertionError, KeyError):
+        raise QuantityError(field, unit_text, "is not a known unit", "unknown_unit") from None
+
+
+def _check_limits(field: str, shown, si_value: float, spec: QuantitySpec) -> float:
+    if spec.minimum is not None:
+        low_ok = si_value >= spec.minimum if spec.minimum_inclusive else si_value > spec.minimum
+        if not low_ok:
+            raise QuantityError(field, shown, spec.rule, "out_of_range")
+    if spec.maximum is not None:
+        high_ok = si_value <= spec.maximum if spec.maximum_inclusive else si_value < spec.maximum
+        if not high_ok:
+            raise QuantityError(field, shown, spec.rule, "out_of_range")
+    return si_value
+
+
+def convert_to_si(field: str, magnitude: float, unit_text: str, spec: QuantitySpec,
+                  molar_mass_kg_per_mol: float | None = None) -> float:
+    unit = _unit(field, unit_text)
+    shown = f"{magnitude:g} {unit_text}"
+    quantity = Q_(magnitude, unit)
+    target = ureg.Unit(spec.si_unit)
+    if spec.accepts_molar and quantity.dimensionality == ureg.Unit("J/mol").dimensionality:
+        if molar_mass_kg_per_mol is None:
+            raise QuantityError(
+                field, shown, "a molar heat needs a molar_mass to convert to kJ/kg", "needs_molar_mass"
+            )
+        si_value = quantity.to("J/mol").magnitude / molar_mass_kg_per_mol
+    else:
+        if quantity.dimensionality != target.dimensionality:
+            raise QuantityError(
+                field, shown,
+                f"has the wrong dimension: expected a unit like {spec.canonical_unit}",
+                "wrong_dimension",
+            )
+        si_value = quantity.to(target).magnitude
+    if not math.isfinite(si_value):
+        raise QuantityError(field, shown, "must be a finite number", "not_finite")
+    return _check_limits(field, shown, si_value, spec)
+
+
+def parse_quantity(raw, *, field: str, kind: str) -> float:
+    """Any accepted way of writing a quantity -> its SI magnitude (float).
+
+    Accepts `{"value": 30, "unit": "degC"}` (optionally with "molar_mass"), a string
+    `"30 degC"`/`"30 °C"`, or a bare number in the field's canonical unit.
+    """
+    spec = SPECS[kind]
+    molar_mass = None
+    if isinstance(raw, dict):
+        unknown = set(raw) - {"value", "unit", "molar_mass"}
+        if unknown or "value" not in raw:
+            raise QuantityError(
+                field, raw, 'must be {"value": number, "unit": "unit"}', "bad_shape"
+            )
+        magnitude = _finite_number(field, raw["value"])
+        unit_text = raw.get("unit") or spec.canonical_unit
+        if not isinstance(unit_text, str):
+            raise QuantityError(field, raw, "unit must be a string", "bad_shape")
+        if raw.get("molar_mass") is not None:
+            molar_mass = parse_quantity(raw["molar_mass"], field=f"{field}.molar_mass",
+                                        kind="molar_mass")
+    elif isinstance(raw, str):
+        match = _NUMBER.match(raw)
+        if not match:
+            if raw.strip().lower() in {"nan", "inf", "-inf", "infinity", "+inf"} or re.match(
+                r"^\s*[-+]?(nan|inf)", raw, re.I
+            ):
+                raise QuantityError(field, raw, "must be a finite number", "not_finite")
+            raise QuantityError(field, raw, "must be a number followed by a unit", "not_a_number")
+        magnitude = float(match.group(1))
+        if not math.isfinite(magnitude):
+            raise QuantityError(field, raw, "must be a finite number", "not_finite")
+        unit_text = match.group(2) or spec.canonical_unit
+    else:
+        magnitude = _finite_number(field, raw)
+        unit_text = spec.canonical_unit
+    return convert_to_si(field, magnitude, unit_text, spec, molar_mass)
+
+
+def from_si(si_value: float | None, *, kind: str) -> float | None:
+    """An SI magnitude -> the field's canonical unit."""
+    if si_value is None:
+        return None
+    spec = SPECS[kind]
+    return float(Q_(si_value, ureg.Unit(spec.si_unit)).to(ureg.Unit(spec.canonical_unit)).magnitude)
+
+
+def display_unit(kind: str) -> str:
+    unit = SPECS[kind].canonical_unit
+    return DISPLAY.get(unit, unit)

@@ -1,0 +1,182 @@
+"""Django settings of Exoledger, read from the environment (see README, "Configuration")."""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+from django.core.exceptions import ImproperlyConfigured
+
+from hazards.db import database_settings
+from hazards.env import env_bool, env_int, env_list, env_str
+
+BASE_DIR = Path(__file__).resolve().parent.parent
+
+ENVIRONMENT = env_str("EXOLEDGER_ENV", "development")
+if ENVIRONMENT not in ("development", "production", "test"):
+    raise ImproperlyConfigured(
+        f"EXOLEDGER_ENV={ENVIRONMENT!r}: expected development, test or production."
+    )
+PRODUCTION = ENVIRONMENT == "production"
+TESTING = ENVIRONMENT == "test" or "pytest" in sys.modules
+
+if PRODUCTION:
+    SECRET_KEY = env_str("EXOLEDGER_SECRET_KEY", required=True)
+    ALLOWED_HOSTS = env_list("EXOLEDGER_ALLOWED_HOSTS")
+    if not ALLOWED_HOSTS:
+        raise ImproperlyConfigured("EXOLEDGER_ALLOWED_HOSTS must list the host names served.")
+    DEBUG = False
+else:
+    # A development key: never used when EXOLEDGER_ENV=production.
+    SECRET_KEY = env_str("EXOLEDGER_SECRET_KEY", "dev-only-insecure-key-change-me-0123456789abcdef")
+    ALLOWED_HOSTS = env_list("EXOLEDGER_ALLOWED_HOSTS", ["127.0.0.1", "localhost", "testserver"])
+    DEBUG = env_bool("EXOLEDGER_DEBUG", False)
+
+# The key that seals signatures is kept outside the database (INTEGRITY.md §1.4).
+SIGNATURE_SEAL_KEY = env_str("EXOLEDGER_SEAL_KEY", SECRET_KEY)
+
+INSTALLED_APPS = [
+    "django.contrib.admin",
+    "django.contrib.auth",
+    "django.contrib.contenttypes",
+    "django.contrib.sessions",
+    "django.contrib.messages",
+    "django.contrib.staticfiles",
+    "rest_framework",
+    "django_filters",
+    "drf_spectacular",
+    "drf_spectacular_sidecar",
+    "pgtrigger",
+    "pghistory",
+    "pghistory.admin",
+    "hazards",
+]
+
+MIDDLEWARE = [
+    "django.middleware.security.SecurityMiddleware",
+    "whitenoise.middleware.WhiteNoiseMiddleware",
+    "django.contrib.sessions.middleware.SessionMiddleware",
+    "django.middleware.common.CommonMiddleware",
+    "django.middleware.csrf.CsrfViewMiddleware",
+    "django.contrib.auth.middleware.AuthenticationMiddleware",
+    "django.contrib.messages.middleware.MessageMiddleware",
+    "django.middleware.clickjacking.XFrameOptionsMiddleware",
+    "pghistory.middleware.HistoryMiddleware",
+]
+
+ROOT_URLCONF = "hazards.urls"
+WSGI_APPLICATION = "hazards.wsgi.application"
+
+TEMPLATES = [
+    {
+        "BACKEND": "django.template.backends.django.DjangoTemplates",
+        "DIRS": [BASE_DIR / "templates"],
+        "APP_DIRS": True,
+        "OPTIONS": {
+            "context_processors": [
+                "django.template.context_processors.request",
+                "django.contrib.auth.context_processors.auth",
+                "django.contrib.messages.context_processors.messages",
+            ],
+        },
+    },
+]
+
+DATABASES = {"default": database_settings()}
+DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
+
+PASSWORD_HASHERS = [
+    "django.contrib.auth.hashers.Argon2PasswordHasher",
+    "django.contrib.auth.hashers.PBKDF2PasswordHasher",
+]
+if TESTING:
+    PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]
+
+AUTH_PASSWORD_VALIDATORS = [
+    {"NAME": "django.contrib.auth.password_validation.UserAttributeSimilarityValidator"},
+    {
+        "NAME": "django.contrib.auth.password_validation.MinimumLengthValidator",
+        "OPTIONS": {"min_length": 12},
+    },
+    {"NAME": "django.contrib.auth.password_validation.CommonPasswordValidator"},
+    {"NAME": "django.contrib.auth.password_validation.NumericPasswordValidator"},
+]
+
+LANGUAGE_CODE = "en"
+TIME_ZONE = "UTC"
+USE_I18N = True
+USE_TZ = True
+
+STATIC_URL = "static/"
+STATIC_ROOT = BASE_DIR / "var" / "static"
+STATICFILES_DIRS = [BASE_DIR / "hazards" / "static"]
+
+LOGIN_URL = "/admin/login/"
+
+# Uploads: calorimeter files are small; anything bigger is refused, never streamed to disk.
+DATA_UPLOAD_MAX_MEMORY_SIZE = env_int("EXOLEDGER_MAX_UPLOAD_BYTES", 5 * 1024 * 1024, minimum=1024)
+FILE_UPLOAD_MAX_MEMORY_SIZE = DATA_UPLOAD_MAX_MEMORY_SIZE
+
+REST_FRAMEWORK = {
+    "DEFAULT_AUTHENTICATION_CLASSES": [
+        "hazards.api.auth.HashedTokenAuthentication",
+        "rest_framework.authentication.SessionAuthentication",
+    ],
+    "DEFAULT_PERMISSION_CLASSES": ["rest_framework.permissions.IsAuthenticated"],
+    "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
+    "DEFAULT_FILTER_BACKENDS": [
+        "django_filters.rest_framework.DjangoFilterBackend",
+        "rest_framework.filters.OrderingFilter",
+    ],
+    "DEFAULT_PAGINATION_CLASS": "rest_framework.pagination.LimitOffsetPagination",
+    "PAGE_SIZE": 50,
+    "EXCEPTION_HANDLER": "hazards.api.errors.exception_handler",
+    "UNAUTHENTICATED_USER": "django.contrib.auth.models.AnonymousUser",
+}
+
+SPECTACULAR_SETTINGS = {
+    "TITLE": "Exoledger API",
+    "DESCRIPTION": (
+        "Thermal-safety review records: processes, reaction steps, measurements, vessels, "
+        "solvents and their computed indicators. Quantities are objects "
+        '`{"value": number, "unit": "pint unit"}` in the canonical unit of each field; '
+        "on input any compatible unit, a string such as `\"30 degC\"`, or a bare number in "
+        "the canonical unit is accepted.\n\n"
+        "**Caution.** These numbers support and do not replace a qualified assessment by a "
+        "competent process-safety professional. Local codes, company standards and licensed "
+        "practice prevail."
+    ),
+    "VERSION": "1",
+    "SERVE_INCLUDE_SCHEMA": False,
+    "SWAGGER_UI_DIST": "SIDECAR",
+    "SWAGGER_UI_FAVICON_HREF": "SIDECAR",
+    "REDOC_DIST": "SIDECAR",
+    "COMPONENT_SPLIT_REQUEST": True,
+}
+
+# API tokens live this long unless a shorter life is asked for.
+API_TOKEN_TTL_HOURS = env_int("EXOLEDGER_API_TOKEN_TTL_HOURS", 24 * 30, minimum=1)
+
+LOGGING = {
+    "version": 1,
+    "disable_existing_loggers": False,
+    "handlers": {"console": {"class": "logging.StreamHandler"}},
+    "root": {"handlers": ["console"], "level": env_str("EXOLEDGER_LOG_LEVEL", "WARNING")},
+}
+
+SESSION_COOKIE_HTTPONLY = True
+CSRF_COOKIE_HTTPONLY = False
+SESSION_COOKIE_AGE = env_int("EXOLEDGER_SESSION_SECONDS", 8 * 3600, minimum=60)
+X_FRAME_OPTIONS = "DENY"
+SECURE_CONTENT_TYPE_NOSNIFF = True
+if PRODUCTION:
+    SESSION_COOKIE_SECURE = True
+    CSRF_COOKIE_SECURE = True
+    SECURE_SSL_REDIRECT = env_bool("EXOLEDGER_SSL_REDIRECT", True)
+    SECURE_HSTS_SECONDS = env_int("EXOLEDGER_HSTS_SECONDS", 31536000)
+    SECURE_HSTS_INCLUDE_SUBDOMAINS = True
+    SECURE_HSTS_PRELOAD = True
+    SECURE_PROXY_SSL_HEADER = ("HTTP_X_FORWARDED_PROTO", "https")
+
+# The audit trail: append-only event tables for every tracked model (INTEGRITY.md §0.2).
+PGHISTORY_APPEND_ONLY = True

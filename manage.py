@@ -1,0 +1,31 @@
+#!/usr/bin/env python
+"""Exoledger's command-line utility for administrative tasks."""
+
+import os
+import sys
+
+
+def main() -> None:
+    os.environ.setdefault("DJANGO_SETTINGS_MODULE", "hazards.settings")
+    from django.core.management import execute_from_command_line
+    from django.db.utils import OperationalError
+
+    try:
+        execute_from_command_line(sys.argv)
+    except OperationalError as exc:
+        # An unreachable database is one clear line, not a traceback.
+        from django.conf import settings
+
+        from hazards.db import describe
+
+        reason = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
+        print(
+            f"exoledger: cannot use the database {describe(settings.DATABASES['default'])}: "
+            f"{reason}",
+            file=sys.stderr,
+        )
+        raise SystemExit(2) from None
+
+
+if __name__ == "__main__":
+    main()
