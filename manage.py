@@ -7,11 +7,15 @@ import sys
 
 def main() -> None:
     os.environ.setdefault("DJANGO_SETTINGS_MODULE", "hazards.settings")
+    from django.core.exceptions import ImproperlyConfigured
     from django.core.management import execute_from_command_line
     from django.db.utils import OperationalError
 
     try:
         execute_from_command_line(sys.argv)
+    except ImproperlyConfigured as exc:
+        print(f"exoledger: configuration error: {exc}", file=sys.stderr)
+        raise SystemExit(2) from None
     except OperationalError as exc:
         # An unreachable database is one clear line, not a traceback.
         from django.conf import settings

@@ -8,6 +8,7 @@ from rest_framework import permissions, viewsets
 from rest_framework.decorators import action
 from rest_framework.response import Response
 
+from hazards.access import visible
 from hazards.api import serializers as s
 from hazards.models import (
     CalorimetryRun,
@@ -35,6 +36,12 @@ class ModelPermissions(permissions.DjangoModelPermissions):
 
 class RecordViewSet(viewsets.ModelViewSet):
     permission_classes = [permissions.IsAuthenticated, ModelPermissions]
+
+    def get_queryset(self):
+        return visible(self.request.user, self.base_queryset())
+
+    def base_queryset(self):
+        return self.queryset.all()
 
     def perform_destroy(self, instance):
         record_delete(instance=instance)
@@ -78,7 +85,7 @@ class StepViewSet(RecordViewSet):
     }
     ordering_fields = ["process", "sequence", "name", "id"]
 
-    def get_queryset(self):
+    def base_queryset(self):
         qs = ReactionStep.objects.prefetch_related(
             Prefetch(
                 "snapshots",

@@ -55,3 +55,6 @@ class PendingRecompute(models.Model):
 
     class Meta:
         ordering = ["id"]
+
+    def __str__(self) -> str:
+        return f"step {self.step_id} queued at {self.queued_at}"

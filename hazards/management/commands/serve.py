@@ -1,0 +1,44 @@
+"""Prepare the database and serve the application with gunicorn (the README's first command)."""
+
+from __future__ import annotations
+
+import os
+import shutil
+import sys
+
+from django.conf import settings
+from django.core.management import call_command
+from django.core.management.base import BaseCommand
+
+from hazards.demo import ROLES, load_demo
+
+
+class Command(BaseCommand):
+    help = "Migrate, optionally load the demo, collect static files and serve with gunicorn."
+
+    def add_arguments(self, parser):
+        parser.add_argument("--demo", action="store_true", help="Load the demo scenario first.")
+        parser.add_argument("--bind", default=os.environ.get("EXOLEDGER_BIND", "127.0.0.1:8000"))
+        parser.add_argument("--workers", type=int, default=int(os.environ.get("WEB_CONCURRENCY", 3)))
+        parser.add_argument("--no-serve", action="store_true", help="Prepare only; do not serve.")
+
+    def handle(self, *args, bind, workers, demo, no_serve, **options):
+        call_command("migrate", interactive=False, verbosity=0)
+        call_command("collectstatic", interactive=False, verbosity=0)
+        url = f"http://{bind}/"
+        if demo:
+            result = load_demo()
+            self.stdout.write(self.style.SUCCESS("Demo scenario loaded."))
+            self.stdout.write(
+                f"Demo logins (user names): {', '.join(ROLES)}; password: {result['password']}"
+            )
+        self.stdout.write(self.style.SUCCESS(f"Exoledger is served at {url}"))
+        self.stdout.flush()
+        if no_serve:
+            return
+        gunicorn = shutil.which("gunicorn") or os.path.join(os.path.dirname(sys.executable),
+                                                           "gunicorn")
+        argv = [gunicorn, "hazards.wsgi:application", "--bind", bind, "--workers", str(workers),
+                "--timeout", "60", "--graceful-timeout", "20", "--access-logfile", "-"]
+        os.environ.setdefault("DJANGO_SETTINGS_MODULE", settings.SETTINGS_MODULE)
+        os.execv(gunicorn, argv)
