@@ -14,3 +14,10 @@ def visible(user, queryset: QuerySet) -> QuerySet:
     if not getattr(user, "is_authenticated", False):
         return queryset.none()
     return queryset
+
+
+def is_service_account(user) -> bool:
+    """Accounts of other systems read and write data but can never sign."""
+    from hazards.models import ServiceAccount
+
+    return bool(getattr(user, "pk", None)) and ServiceAccount.objects.filter(user=user).exists()

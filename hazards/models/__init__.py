@@ -7,7 +7,7 @@ from hazards.models.measurements import (
 )
 from hazards.models.process import Process, ReactionStep, Site
 from hazards.models.reference import Solvent, Vessel
-from hazards.models.tokens import ApiToken
+from hazards.models.tokens import ApiToken, ServiceAccount
 
 __all__ = [
     "ApiToken",
@@ -21,6 +21,7 @@ __all__ = [
     "ReactionStep",
     "Site",
     "Solvent",
+    "ServiceAccount",
     "Vessel",
 ]
 

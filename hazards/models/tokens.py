@@ -36,3 +36,16 @@ class ApiToken(models.Model):
     @staticmethod
     def generate() -> str:
         return secrets.token_urlsafe(32)
+
+
+class ServiceAccount(models.Model):
+    """A named account of another system: it reads and writes data but can never sign."""
+
+    user = models.OneToOneField(
+        settings.AUTH_USER_MODEL, on_delete=models.CASCADE, related_name="service_account"
+    )
+    description = models.TextField(blank=True)
+    created_at = models.DateTimeField(auto_now_add=True)
+
+    def __str__(self) -> str:
+        return f"service account {self.user}"
