@@ -1,0 +1,7 @@
+"""Exoledger calculations: pure-Python thermal-safety methods in SI floats.
+
+The package imports nothing heavy at import time; import the method modules
+(``calcs.tmr``, ``calcs.scenario`` ...) where they are needed.
+"""
+
+__version__ = "0.1.0"

@@ -1,0 +1,329 @@
+"""Thermal accumulation and MTSR(t) from a heat-flow calorimetry record (METHODS.md §1.2).
+
+All arrays are 1-D numpy float arrays of one length, one entry per time stamp.
+The algorithm, step by step:
+
+1. Q(t_i) by the cumulative trapezoid rule.
+2. Q_tot over the whole record; the end-of-reaction criterion (default
+   |q| < 1 % of q_max) is evaluated and *recorded*, and a warning is given when
+   the record ends before the criterion is met (Q_tot then too small, X_ac too
+   small: non-conservative).
+3. X_th = Q/Q_tot.
+4. f = min(f_d, 1), the dosed fraction of the stoichiometric feed.
+5. X_ac = f − X_th, negative values clipped to 0 and flagged.
+6. MTSR(t) = T_r(t) + X_ac(t)·Q_tot/(m(t)·c_p), with m(t) the mass present.
+7. max MTSR, its time and X_ac there.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from calcs.errors import (
+    CalcInputError,
+    require_finite_array,
+    require_min_length,
+    require_non_negative,
+    require_positive,
+    require_same_length,
+    require_sorted_increasing,
+)
+
+REFERENCES = ("stoessel2008", "harsbook_ch5", "methods_md")
+
+
+@dataclass(frozen=True)
+class AccumulationAnalysis:
+    """Arrays and summary figures of :func:`analyse_accumulation` (SI units)."""
+
+    time_s: np.ndarray
+    heat_j: np.ndarray
+    thermal_conversion: np.ndarray
+    dosed_fraction: np.ndarray
+    accumulation: np.ndarray
+    mass_kg: np.ndarray
+    mtsr_k: np.ndarray
+    total_heat_j: float
+    end_criterion: str
+    end_time_s: float | None
+    max_mtsr_k: float
+    max_mtsr_time_s: float
+    accumulation_at_max_mtsr: float
+    max_accumulation: float
+    max_heat_release_rate_w_per_kg: float
+    specific_heat_j_per_kg: float
+    negative_accumulation_clipped: bool
+    warnings: tuple[str, ...]
+
+
+def cumulative_heat(time_s, heat_release_rate_w) -> np.ndarray:
+    """Cumulative heat of a heat-release-rate record by the trapezoid rule.
+
+    Equation: Q(t_i) = Σ_{j=1..i} ½·(q_j + q_{j−1})·(t_j − t_{j−1}), Q(t_0) = 0.
+
+    Parameters
+    ----------
+    time_s : array_like
+        Strictly increasing time stamps [s].
+    heat_release_rate_w : array_like
+        Reaction heat-release rate, baseline- and dosing-corrected [W].
+
+    Returns
+    -------
+    numpy.ndarray
+        Q(t) [J], same length as the inputs.
+
+    Validity: a coarse grid underestimates Q while q rises concavely, which
+    gives a larger (safer) accumulation.
+
+    Examples
+    --------
+    >>> cumulative_heat([0, 10, 20], [0.0, 1.0, 1.0]).tolist()
+    [0.0, 5.0, 15.0]
+
+    References
+    ----------
+    METHODS.md §1.2 step 1; HarsBook ch. 5.
+    """
+    t, dt = _time_axis(time_s)
+    q = require_finite_array("heat_release_rate_w", heat_release_rate_w)
+    require_same_length(("time_s", "heat_release_rate_w"), t, q)
+    return _cumtrapz(dt, q)
+
+
+def _time_axis(time_s) -> tuple[np.ndarray, np.ndarray]:
+    """Validate a time axis once and return it with its steps (reused by the integral)."""
+    t = require_finite_array("time_s", time_s)
+    dt = np.diff(t)
+    if (dt <= 0.0).any():
+        require_sorted_increasing("time_s", t)  # raises with the offending entry
+    return t, dt
+
+
+def _cumtrapz(dt: np.ndarray, q: np.ndarray) -> np.ndarray:
+    out = np.empty_like(q)
+    out[0] = 0.0
+    seg = q[1:] + q[:-1]
+    seg *= dt
+    np.cumsum(seg, out=out[1:])
+    out[1:] *= 0.5
+    return out
+
+
+def end_of_reaction_time(time_s, heat_release_rate_w, fraction: float = 0.01) -> float | None:
+    """First time after the peak from which |q| stays below a fraction of q_max.
+
+    Equation: t_end = min{t_i > t(q_max) : |q_j| < fraction·q_max for all j ≥ i}.
+
+    Parameters
+    ----------
+    time_s : array_like
+        Strictly increasing time stamps [s].
+    heat_release_rate_w : array_like
+        Heat-release rate [W].
+    fraction : float
+        Criterion as a fraction of q_max [-] (default 0.01, i.e. 1 %).
+
+    Returns
+    -------
+    float or None
+        t_end [s], or ``None`` when the record ends before the criterion is met.
+
+    Validity: an exothermic record with a single dominant peak.
+
+    Examples
+    --------
+    >>> end_of_reaction_time([0, 1, 2, 3], [0.0, 10.0, 0.5, 0.05])
+    3.0
+
+    References
+    ----------
+    METHODS.md §1.2 step 2 (practical criterion, common practice).
+    """
+    t = require_sorted_increasing("time_s", time_s)
+    q = require_finite_array("heat_release_rate_w", heat_release_rate_w)
+    require_same_length(("time_s", "heat_release_rate_w"), t, q)
+    return _end_time(t, q, require_positive("fraction", fraction))
+
+
+def _end_time(t: np.ndarray, q: np.ndarray, fraction: float) -> float | None:
+    i_max = int(np.argmax(q))
+    above = np.abs(q[i_max:]) >= fraction * q[i_max]
+    if above[-1]:
+        return None
+    last_above = len(above) - 1 - int(np.argmax(above[::-1]))
+    return float(t[i_max + last_above + 1])
+
+
+def analyse_accumulation(
+    time_s,
+    heat_release_rate_w,
+    dosed_fraction,
+    specific_heat_capacity_j_per_kg_k: float,
+    initial_mass_kg: float,
+    feed_mass_kg: float,
+    reactor_temperature_k=None,
+    process_temperature_k: float | None = None,
+    end_fraction: float = 0.01,
+) -> AccumulationAnalysis:
+    """Thermal accumulation X_ac(t) and MTSR(t) with the mass present at each time.
+
+    Equations: X_th = Q/Q_tot; X_ac = max(min(f_d, 1) − X_th, 0);
+    m(t) = m_0 + m_feed·f_d(t)/f_d,max; MTSR(t) = T_r(t) + X_ac·Q_tot/(m(t)·c_p);
+    Q′ = Q_tot/(m_0 + m_feed).
+
+    Parameters
+    ----------
+    time_s : array_like
+        Strictly increasing time stamps [s].
+    heat_release_rate_w : array_like
+        Reaction heat-release rate q_rx, baseline- and dosing-corrected [W].
+    dosed_fraction : array_like
+        Dosed amount as a fraction of the stoichiometric feed [-] (≥ 0; values
+        above 1 mean over-stoichiometric feed and are capped at 1 for X_ac).
+    specific_heat_capacity_j_per_kg_k : float
+        c_p of the reaction mass [J/(kg K)].
+    initial_mass_kg : float
+        Mass in the reactor before dosing m_0 [kg].
+    feed_mass_kg : float
+        Feed mass dosed over the record [kg] (0 for a batch record).
+    reactor_temperature_k : array_like or None
+        Reactor temperature T_r(t) [K]; if ``None``, ``process_temperature_k``.
+    process_temperature_k : float or None
+        Constant T_p [K] used when no T_r series is given.
+    end_fraction : float
+        End-of-reaction criterion as a fraction of q_max [-] (default 0.01).
+
+    Returns
+    -------
+    AccumulationAnalysis
+        Arrays (Q [J], X_th, X_ac, m [kg], MTSR [K]) and the summary: Q_tot [J],
+        the recorded end criterion, max MTSR [K] with its time [s] and X_ac there,
+        max X_ac, peak specific rate max q/m [W/kg], Q′ [J/kg], warnings.
+
+    Validity: dosing stops at the cooling failure; heat released into the mass
+    present (φ = 1); c_p constant.
+
+    Examples
+    --------
+    >>> a = analyse_accumulation([0, 600, 1200], [0.0, 10.0, 0.0], [0.0, 1.0, 1.0],
+    ...                          2000.0, 0.4, 0.1, process_temperature_k=303.15)
+    >>> a.total_heat_j, round(a.max_accumulation, 3)
+    (6000.0, 0.5)
+
+    References
+    ----------
+    METHODS.md §1.2 [DERIVED m(t) form]; Stoessel 2008 ch. 7; HarsBook ch. 5.
+    """
+    t, dt = _time_axis(time_s)
+    q = require_finite_array("heat_release_rate_w", heat_release_rate_w)
+    fd = require_finite_array("dosed_fraction", dosed_fraction)
+    require_min_length("time_s", t, 2)
+    require_same_length(("time_s", "heat_release_rate_w", "dosed_fraction"), t, q, fd)
+    if fd.min() < 0.0:
+        raise CalcInputError("dosed_fraction", fd, "must not be negative")
+    cp = require_positive("specific_heat_capacity_j_per_kg_k", specific_heat_capacity_j_per_kg_k)
+    m0 = require_positive("initial_mass_kg", initial_mass_kg)
+    mf = require_non_negative("feed_mass_kg", feed_mass_kg)
+    if reactor_temperature_k is not None:
+        tr = require_finite_array("reactor_temperature_k", reactor_temperature_k)
+        require_same_length(("time_s", "reactor_temperature_k"), t, tr)
+        if tr.min() <= 0.0:
+            raise CalcInputError(
+                "reactor_temperature_k", tr, "must be an absolute temperature above 0 K"
+            )
+    elif process_temperature_k is not None:
+        tr = float(require_positive("process_temperature_k", process_temperature_k))
+    else:
+        raise CalcInputError(
+            "reactor_temperature_k", None, "give a T_r series or a process temperature"
+        )
+    frac = require_positive("end_fraction", end_fraction)
+
+    warnings: list[str] = []
+    heat = _cumtrapz(dt, q)
+    q_tot = float(heat[-1])
+    if q_tot <= 0.0:
+        raise CalcInputError("heat_release_rate_w", q, "must integrate to a positive heat")
+    i_qmax = int(np.argmax(q))
+    t_end = _end_time(t, q, frac)
+    criterion = f"|q| < {frac:.3g} of q_max ({frac * q[i_qmax]:.6g} W)"
+    if t_end is None:
+        warnings.append(
+            f"heat-release rate not back below {criterion} by the end of the record: "
+            "Q_tot and the accumulation may be underestimated"
+        )
+    x_th = np.divide(heat, q_tot)
+    fd_max = float(fd.max())
+    f = np.minimum(fd, 1.0)
+    x_ac = np.subtract(f, x_th)
+    clipped = bool(x_ac.min() < 0.0)
+    if clipped:
+        warnings.append(
+            f"negative accumulation (down to {x_ac.min():.4f}) clipped to 0: "
+            "check signal lag, baseline or endothermic mixing effects"
+        )
+        np.maximum(x_ac, 0.0, out=x_ac)
+    mass = np.multiply(fd, mf / fd_max) if fd_max > 0.0 else np.zeros_like(q)
+    mass += m0
+    mtsr = x_ac * (q_tot / cp)
+    mtsr /= mass
+    mtsr += tr
+    i_max = int(np.argmax(mtsr))
+    return AccumulationAnalysis(
+        time_s=t,
+        heat_j=heat,
+        thermal_conversion=x_th,
+        dosed_fraction=f,
+        accumulation=x_ac,
+        mass_kg=mass,
+        mtsr_k=mtsr,
+        total_heat_j=q_tot,
+        end_criterion=criterion + "; Q_tot integrated over the whole record",
+        end_time_s=t_end,
+        max_mtsr_k=float(mtsr[i_max]),
+        max_mtsr_time_s=float(t[i_max]),
+        accumulation_at_max_mtsr=float(x_ac[i_max]),
+        max_accumulation=float(x_ac.max()),
+        max_heat_release_rate_w_per_kg=float(q[i_qmax] / mass[i_qmax]),
+        specific_heat_j_per_kg=q_tot / (m0 + mf),
+        negative_accumulation_clipped=clipped,
+        warnings=tuple(warnings),
+    )
+
+
+def accumulation_after_end_of_feed(heat_after_feed_j: float, total_heat_j: float) -> float:
+    """Accumulation at the end of feed from the heat released after the feed stopped.
+
+    Equation: X_ac(t_d) = Q_post / Q_tot.
+
+    Parameters
+    ----------
+    heat_after_feed_j : float
+        Heat released after the end of the feed Q_post [J].
+    total_heat_j : float
+        Total reaction heat Q_tot [J].
+
+    Returns
+    -------
+    float
+        X_ac(t_d) [-].
+
+    Validity: only the accumulation at t_d; earlier maxima are not seen.
+
+    Examples
+    --------
+    >>> accumulation_after_end_of_feed(12000.0, 60000.0)
+    0.2
+
+    References
+    ----------
+    METHODS.md §1.2 special case [DERIVED].
+    """
+    post = require_non_negative("heat_after_feed_j", heat_after_feed_j)
+    tot = require_positive("total_heat_j", total_heat_j)
+    if post > tot:
+        raise CalcInputError("heat_after_feed_j", heat_after_feed_j, "must not exceed total_heat_j")
+    return post / tot

@@ -1,0 +1,132 @@
+"""Physical constants and the bibliography used by the calcs package.
+
+Each constant carries its source. ``REFERENCES`` maps a short key to a full
+citation; method functions name their keys in ``REFERENCES_BY_METHOD`` and in
+their docstrings, and the scenario layer returns the keys it used so that a
+dossier can print the citations.
+"""
+
+#: Molar gas constant [J/(mol K)]; exact since the 2019 SI redefinition
+#: (CODATA 2018, R = N_A k).
+R = 8.314462618
+
+#: Celsius zero on the kelvin scale [K]; exact by definition (SI Brochure).
+T_ZERO_C = 273.15
+
+#: Standard atmosphere [Pa]; exact by definition (NIST SP 811, Appendix B).
+ATM = 101325.0
+
+#: Thermochemical kilocalorie [J]; exact (NIST SP 811, Appendix B: 1 cal_th = 4.184 J).
+KCAL = 4184.0
+
+#: Seconds in one hour [s].
+HOUR = 3600.0
+
+#: Seconds in 24 h [s], the time base of TD24.
+DAY = 86400.0
+
+REFERENCES: dict[str, str] = {
+    "stoessel2008": (
+        "F. Stoessel, Thermal Safety of Chemical Processes: Risk Assessment and Process "
+        "Design, Wiley-VCH, Weinheim, 2008 (2nd ed. 2020)."
+    ),
+    "stoessel1993": (
+        "F. Stoessel, 'What is your thermal risk?', Chem. Eng. Prog. 89(10) (1993) 68-75."
+    ),
+    "townsend_tou1980": (
+        "D.I. Townsend, J.C. Tou, 'Thermal hazard evaluation by an accelerating rate "
+        "calorimeter', Thermochim. Acta 37 (1980) 1-30."
+    ),
+    "keller1997": (
+        "A. Keller, D. Stenger, P. Dyer-Smith, F. Stoessel, 'Estimation of the time to "
+        "maximum rate using dynamic DSC experiments', J. Loss Prev. Process Ind. 10(1) "
+        "(1997) 31-41."
+    ),
+    "kissinger1957": (
+        "H.E. Kissinger, 'Reaction kinetics in differential thermal analysis', Anal. Chem. "
+        "29(11) (1957) 1702-1706."
+    ),
+    "astm_e2890": (
+        "ASTM E2890, Standard Test Method for Kinetic Parameters for Thermally Unstable "
+        "Materials by Differential Scanning Calorimetry Using the Kissinger Method, ASTM "
+        "International."
+    ),
+    "astm_e698": (
+        "ASTM E698, Standard Test Method for Kinetic Parameters for Thermally Unstable "
+        "Materials Using Differential Scanning Calorimetry and the Flynn/Wall/Ozawa Method, "
+        "ASTM International."
+    ),
+    "ozawa1965": "T. Ozawa, Bull. Chem. Soc. Jpn. 38 (1965) 1881.",
+    "flynn_wall1966": "J.H. Flynn, L.A. Wall, J. Polym. Sci. B 4 (1966) 323.",
+    "doyle1962": "C.D. Doyle, J. Appl. Polym. Sci. 6 (1962) 639.",
+    "senum_yang1977": (
+        "G.I. Senum, R.T. Yang, 'Rational approximations of the integral of the Arrhenius "
+        "function', J. Therm. Anal. 11 (1977) 445-447 (bibliographic details from memory)."
+    ),
+    "akahira_sunose1971": (
+        "T. Akahira, T. Sunose, Res. Rep. Chiba Inst. Technol. (1971); M.J. Starink, "
+        "Thermochim. Acta 404 (2003) 163-176."
+    ),
+    "friedman1964": "H.L. Friedman, J. Polym. Sci. C 6 (1964) 183.",
+    "fisher_goetz1991": (
+        "H.G. Fisher, D.D. Goetz, J. Loss Prev. Process Ind. 4 (1991) 305-316."
+    ),
+    "astm_e1981": (
+        "ASTM E1981, Standard Guide for Assessing Thermal Stability of Materials by Methods "
+        "of Accelerating Rate Calorimetry, ASTM International."
+    ),
+    "semenov1928": "N.N. Semenov, Z. Phys. 48 (1928) 571 (thermal explosion theory).",
+    "frank_kamenetskii1955": (
+        "D.A. Frank-Kamenetskii, Diffusion and Heat Transfer in Chemical Kinetics, "
+        "Princeton University Press, 1955 (2nd ed. Plenum, 1969)."
+    ),
+    "yoshida1995": (
+        "T. Yoshida, Y. Wada, N. Foster, Safety of Reactive Chemicals and Pyrotechnics, "
+        "Elsevier (Industrial Safety Series), 1995."
+    ),
+    "un_mtc_app6": (
+        "United Nations, Recommendations on the Transport of Dangerous Goods, Manual of "
+        "Tests and Criteria, ST/SG/AC.10/11 (Rev.6, 2015 onwards), Appendix 6."
+    ),
+    "clp_annex1": (
+        "Regulation (EC) No 1272/2008 (CLP), Annex I, sections 2.8.4.2 and 2.17.4.1."
+    ),
+    "poling2001": (
+        "B.E. Poling, J.M. Prausnitz, J.P. O'Connell, The Properties of Gases and Liquids, "
+        "5th ed., McGraw-Hill, 2001 (Antoine data as distributed in the 'chemicals' "
+        "package, Chemical Engineering Design Library)."
+    ),
+    "iapws_if97": (
+        "IAPWS, Revised Release on the IAPWS Industrial Formulation 1997 for the "
+        "Thermodynamic Properties of Water and Steam (IAPWS-IF97), 2007."
+    ),
+    "nist_sp811": (
+        "A. Thompson, B.N. Taylor, Guide for the Use of the International System of Units "
+        "(SI), NIST Special Publication 811, 2008 edition."
+    ),
+    "harsbook_ch5": (
+        "HarsNet / HarsBook, chapter 5 'Reaction Calorimetry', EC thematic network "
+        "BET2-0572."
+    ),
+    "regenass1997": (
+        "W. Regenass, 'The development of heat flow calorimetry as a tool for process "
+        "optimization and process safety', J. Therm. Anal. 49 (1997) 1661-1675."
+    ),
+    "hofelich_thomas1989": (
+        "T.C. Hofelich, R.C. Thomas, 'The use/misuse of the 100 degree rule in the "
+        "interpretation of thermal hazard tests', Int. Symp. Runaway Reactions, CCPS/AIChE, "
+        "1989 (from memory)."
+    ),
+    "onset_misuse2002": (
+        "'On the use and misuse of detected onset temperature of calorimetric experiments "
+        "for reactive chemicals', J. Loss Prev. Process Ind. 15(3) (2002) 163-168."
+    ),
+    "onset_sensitivity2017": (
+        "'The physics and metaphysics of the sensitivity of calorimetric instruments and "
+        "human senses', Process Saf. Prog. 36 (2017) 280-283."
+    ),
+    "methods_md": (
+        "Exoledger METHODS.md: thermal-safety methods, equations, sources and check cases "
+        "(project note)."
+    ),
+}
