@@ -19,7 +19,7 @@ import math
 from dataclasses import dataclass
 from functools import lru_cache
 
-from calcs.constants import R, T_ZERO_C
+from calcs.constants import T_ZERO_C, R
 from calcs.errors import (
     CalcInputError,
     require_absolute_temperature,
