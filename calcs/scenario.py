@@ -1,0 +1,211 @@
+"""Cooling-failure scenario of one reaction step: the dispatcher the Django side calls.
+
+``assess_step(StepInputs) -> Assessment`` chooses for each indicator the best
+method the data allow and records which one it used (``Assessment.methods``),
+the parameters it assumed (``parameters``) and the references (``references``,
+keys into :data:`calcs.constants.REFERENCES`). Missing inputs never raise: they
+give ``None`` values and warnings. Invalid inputs (non-finite, ≤ 0 K, fractions
+outside 0..1, unknown mode) raise :class:`calcs.errors.CalcInputError`.
+
+Method choice (the table of CONVENTIONS rule 2):
+
+=================  ==============================================================
+indicator          methods, best first
+=================  ==============================================================
+ΔT_ad              Q′ entered / Q′ from the series, divided by c_p
+MTSR               batch: T_p + ΔT_ad; semi-batch: series MTSR(t) with m(t)
+                   ("mtsr.semi_batch.series"), else T_p + X_ac,max·ΔT_ad, else
+                   the batch worst case
+MTT                override; open: boiling point at the operating pressure
+                   (entered Antoine set, then chemicals by CAS); closed: P(T) =
+                   P_set (vapour + pad + released gas)
+TD24               kinetic (E_a, T_ref, q_ref); Kissinger fit of peaks + energy;
+                   φ-corrected adiabatic onset (Fisher-Goetz, q from the
+                   detection threshold); DSC-onset screening estimate
+TMR_ad at MTSR     zero order from the same q(T) as TD24
+=================  ==============================================================
+
+The implementation is split: the indicator steps live in
+:mod:`calcs._scenario_steps`; this module holds the interface.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass, field, fields
+from typing import Any
+
+from calcs.constants import ATM
+from calcs.criticality import (
+    DEFAULT_RISK_MATRIX,
+    PROBABILITY_3,
+    PROBABILITY_6,
+    SEVERITY_3,
+    SEVERITY_4,
+    RiskMatrix,
+    Scale,
+)
+from calcs.result import json_safe
+from calcs.vapour import AntoineInputs
+
+__all__ = ["AntoineInputs", "Assessment", "AssessmentSettings", "SeriesInputs", "StepInputs",
+           "assess_step"]
+
+
+@dataclass(frozen=True)
+class SeriesInputs:
+    """A measured (lab-scale) heat-flow calorimetry series, SI units."""
+
+    time_s: Sequence[float]
+    heat_release_rate_w: Sequence[float]
+    dosed_fraction: Sequence[float]  # 0..1 of the stoichiometric feed
+    reactor_temperature_k: Sequence[float] | None
+    initial_mass_kg: float
+    feed_mass_kg: float
+
+
+@dataclass(frozen=True)
+class StepInputs:
+    """Inputs of one reaction step, SI floats; ``None`` where unknown."""
+
+    operation_mode: str  # "batch" | "semi_batch"
+    process_temperature_k: float
+    reaction_mass_kg: float | None
+    specific_heat_capacity_j_per_kg_k: float | None
+    system: str  # "open" | "closed"
+    operating_pressure_pa: float | None  # absolute
+    dosing_time_s: float | None
+    mtt_override_k: float | None = None
+    solvent_cas: str | None = None
+    solvent_antoine: AntoineInputs | None = None
+    vessel_heat_transfer_area_m2: float | None = None
+    vessel_u_w_per_m2_k: float | None = None
+    vessel_coolant_temperature_k: float | None = None
+    vessel_relief_set_pressure_pa: float | None = None  # absolute
+    vessel_design_pressure_pa: float | None = None  # absolute
+    vessel_headspace_m3: float | None = None
+    specific_reaction_heat_j_per_kg: float | None = None  # per kg final reaction mass
+    max_accumulation: float | None = None
+    max_heat_release_rate_w_per_kg: float | None = None
+    gas_release_mol_per_kg: float | None = None
+    series: SeriesInputs | None = None
+    decomposition_method: str | None = None  # "dsc" | "adiabatic"
+    onset_temperature_k: float | None = None
+    decomposition_energy_j_per_kg: float | None = None
+    activation_energy_j_per_mol: float | None = None
+    reference_temperature_k: float | None = None
+    heat_release_rate_at_reference_w_per_kg: float | None = None
+    phi_factor: float | None = None
+    peak_temperatures: tuple[tuple[float, float], ...] | None = None  # (β [K/s], T_p [K])
+
+
+_SEVERITY = {"3-level": SEVERITY_3, "4-level": SEVERITY_4}
+_PROBABILITY = {"3-level": PROBABILITY_3, "6-level": PROBABILITY_6}
+
+
+@dataclass(frozen=True)
+class AssessmentSettings:
+    """Site choices: scales, risk matrix and the documented screening assumptions.
+
+    ``severity_scale`` is "3-level" (default) or "4-level" or a
+    :class:`calcs.criticality.Scale`; ``probability_scale`` "3-level" (default),
+    "6-level" or a Scale. ``risk_matrix`` defaults to an organisational choice
+    (configure per site). The screening E_a (50 kJ/mol) and q at onset
+    (20 W/kg) are [MEMORY, not confirmed] values quoted for Keller et al. 1997;
+    the ARC detection threshold 0.02 K/min is common ARC practice [MEMORY].
+    """
+
+    severity_scale: str | Scale = "3-level"
+    probability_scale: str | Scale = "3-level"
+    risk_matrix: RiskMatrix = DEFAULT_RISK_MATRIX
+    screening_activation_energy_j_per_mol: float = 50e3
+    screening_heat_release_rate_w_per_kg: float = 20.0
+    arc_detection_rate_k_per_s: float = 0.02 / 60.0
+    end_of_reaction_fraction: float = 0.01
+    ambient_pressure_pa: float = ATM
+    minimum_cooling_margin: float = 1.3
+
+    def severity(self) -> Scale:
+        """The severity :class:`Scale` selected."""
+        s = self.severity_scale
+        return s if isinstance(s, Scale) else _SEVERITY[s]
+
+    def probability(self) -> Scale:
+        """The probability :class:`Scale` selected."""
+        s = self.probability_scale
+        return s if isinstance(s, Scale) else _PROBABILITY[s]
+
+
+@dataclass(frozen=True)
+class Assessment:
+    """Indicators of one step (SI floats or ``None``), with provenance."""
+
+    adiabatic_temperature_rise_k: float | None = None
+    mtsr_k: float | None = None
+    mtsr_time_s: float | None = None
+    mtt_k: float | None = None
+    td24_k: float | None = None
+    tmr_ad_at_mtsr_s: float | None = None
+    criticality_class: int | None = None
+    td24_below_process_temperature: bool = False
+    severity: str | None = None
+    probability: str | None = None
+    risk_cell: str | None = None
+    cooling_capacity_w: float | None = None
+    plant_peak_heat_release_w: float | None = None
+    cooling_margin: float | None = None
+    minimum_dosing_time_s: float | None = None
+    end_pressure_pa: float | None = None
+    warnings: tuple[str, ...] = ()
+    methods: dict[str, str] = field(default_factory=dict)
+    parameters: dict[str, Any] = field(default_factory=dict)
+    references: tuple[str, ...] = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        """JSON-safe dict of every field (tuples as lists, NaN/inf as ``None``)."""
+        return {f.name: json_safe(getattr(self, f.name)) for f in fields(self)}
+
+
+def assess_step(inputs: StepInputs, *, settings: AssessmentSettings | None = None) -> Assessment:
+    """Assess the cooling-failure scenario of one step: ΔT_ad, MTSR, MTT, TD24, class, risk.
+
+    Equation: MTSR = T_p + ΔT_ad (batch) or max_t[T_r(t) + X_ac(t)·ΔT_ad·m_f/m(t)]
+    (semi-batch series); MTT per system; TD24 and TMR_ad(MTSR) zero order from
+    q(T) = q_ref·exp[−(E_a/R)(1/T − 1/T_ref)]; class per Stoessel; severity from
+    ΔT_ad, probability from TMR_ad at MTSR; cooling margin U·A·(T_p − T_c)/(q′_max·m).
+
+    Parameters
+    ----------
+    inputs : StepInputs
+        The step, SI floats (``None`` where unknown).
+    settings : AssessmentSettings or None
+        Scales, risk matrix and screening assumptions (defaults when ``None``).
+
+    Returns
+    -------
+    Assessment
+        The indicators [K, s, W, Pa], warnings, method names, assumed
+        parameters and reference keys.
+
+    Validity: Stoessel's cooling-failure scenario: dosing stops at the failure,
+    φ = 1 at plant scale, zero-order decomposition.
+
+    Examples
+    --------
+    >>> a = assess_step(StepInputs("batch", 303.15, 1000.0, 2000.0, "open", None, None,
+    ...     mtt_override_k=373.15, specific_reaction_heat_j_per_kg=100e3,
+    ...     activation_energy_j_per_mol=100e3, reference_temperature_k=453.15,
+    ...     heat_release_rate_at_reference_w_per_kg=50.0))
+    >>> round(a.mtsr_k - 273.15, 2), a.criticality_class, a.methods["td24"]
+    (80.0, 1, 'td24.kinetic')
+
+    References
+    ----------
+    Stoessel 1993; Stoessel 2008; Townsend & Tou 1980; METHODS.md §1-5.
+    """
+    from calcs._scenario_steps import run
+
+    return run(inputs, settings or DEFAULT_SETTINGS)
+
+
+DEFAULT_SETTINGS = AssessmentSettings()
