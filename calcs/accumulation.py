@@ -249,7 +249,7 @@ def analyse_accumulation(
         raise CalcInputError("heat_release_rate_w", q, "must integrate to a positive heat")
     i_qmax = int(np.argmax(q))
     t_end = _end_time(t, q, frac)
-    criterion = f"|q| < {frac:.3g} of q_max ({frac * q[i_qmax]:.6g} W)"
+    criterion = f"|q| < {frac * 100:g} % of q_max ({frac * q[i_qmax]:.6g} W)"
     if t_end is None:
         warnings.append(
             f"heat-release rate not back below {criterion} by the end of the record: "
