@@ -4,7 +4,7 @@ import math
 
 import pytest
 
-from calcs.constants import ATM, KCAL, R, REFERENCES, T_ZERO_C
+from calcs.constants import ATM, KCAL, REFERENCES, T_ZERO_C, R
 from calcs.errors import CalcInputError
 from calcs.units import KINDS, Q_, from_si, molar_to_specific_energy, parse_quantity, to_si, ureg
 
