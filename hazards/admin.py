@@ -5,16 +5,17 @@ from __future__ import annotations
 from django.contrib import admin
 
 from hazards import models as m
-from hazards.forms import quantity_modelform
+from hazards.forms import quantity_formfield
 from hazards.services.indicators import flush_pending
 
 
 class RecordAdmin(admin.ModelAdmin):
     readonly_fields = ("version", "created_at", "updated_at")
 
-    def get_form(self, request, obj=None, change=False, **kwargs):
-        kwargs["form"] = quantity_modelform(self.model)
-        return super().get_form(request, obj, change=change, **kwargs)
+    def formfield_for_dbfield(self, db_field, request, **kwargs):
+        return quantity_formfield(db_field) or super().formfield_for_dbfield(
+            db_field, request, **kwargs
+        )
 
     def delete_queryset(self, request, queryset):
         super().delete_queryset(request, queryset)
@@ -25,9 +26,10 @@ class PeakInline(admin.TabularInline):
     model = m.DecompositionPeak
     extra = 0
 
-    def get_formset(self, request, obj=None, **kwargs):
-        kwargs["form"] = quantity_modelform(m.DecompositionPeak)
-        return super().get_formset(request, obj, **kwargs)
+    def formfield_for_dbfield(self, db_field, request, **kwargs):
+        return quantity_formfield(db_field) or super().formfield_for_dbfield(
+            db_field, request, **kwargs
+        )
 
 
 @admin.register(m.Site)

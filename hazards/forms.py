@@ -36,19 +36,24 @@ class QuantityFormField(forms.CharField):
             raise forms.ValidationError(exc.message, code=exc.code) from None
 
 
+def quantity_formfield(db_field) -> QuantityFormField | None:
+    """The quantity input for a stored SI field, or None if the field is no quantity."""
+    kind = kinds_for(db_field.model).get(db_field.name)
+    if kind is None:
+        return None
+    assert kind in SPECS
+    return QuantityFormField(
+        kind=kind,
+        required=not (db_field.null or db_field.blank),
+        label=db_field.verbose_name.capitalize(),
+    )
+
+
 def quantity_formfield_callback(model):
     """A `formfield_callback` that swaps each SI float field for a quantity input."""
-    kinds = kinds_for(model)
 
     def callback(field, **kwargs):
-        if field.name in kinds:
-            assert kinds[field.name] in SPECS
-            return QuantityFormField(
-                kind=kinds[field.name],
-                required=not (field.null or field.blank),
-                label=field.verbose_name.capitalize(),
-            )
-        return field.formfield(**kwargs)
+        return quantity_formfield(field) or field.formfield(**kwargs)
 
     return callback
 

@@ -176,6 +176,11 @@ class StepSerializer(RecordSerializer):
             "indicators",
         ]
 
+    def update(self, instance, validated_data):
+        step = super().update(instance, validated_data)
+        step.__dict__.pop("current_snapshots", None)  # prefetched before the write: stale
+        return step
+
     def get_indicators(self, step) -> dict | None:
         current = getattr(step, "current_snapshots", None)
         if current is not None:

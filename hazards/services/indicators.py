@@ -187,13 +187,16 @@ def steps_for_assessment(step_ids: Iterable[int]):
     )
 
 
+PROVENANCE_KEYS = ("warnings", "methods", "parameters", "references")
+
+
 def assess(case: StepCase) -> dict:
     """Compute the indicator set of one case; returns the snapshot's JSON parts."""
     from calcs import scenario
 
-    result = scenario.assess_step(case.scenario_inputs)
-    data = result.to_dict()
-    return data
+    data = scenario.assess_step(case.scenario_inputs).to_dict()
+    provenance = {key: data.pop(key) for key in PROVENANCE_KEYS}
+    return {"values": data, **provenance}
 
 
 def _snapshot_from(step: ReactionStep, case: StepCase, inputs_hash: str, now) -> IndicatorSnapshot:
@@ -208,7 +211,7 @@ def _snapshot_from(step: ReactionStep, case: StepCase, inputs_hash: str, now) ->
         methods=data["methods"],
         parameters=data.get("parameters", {}),
         warnings=list(data["warnings"]),
-        references=list(data.get("references", [])),
+        references=list(data["references"]),
         criticality_class=data["values"].get("criticality_class"),
         is_current=True,
     )

@@ -142,7 +142,7 @@ def _step_payload(process_id, **overrides):
         ("reaction_mass", "-5 kg", "greater than zero"),
         ("reaction_mass", "NaN kg", "finite"),
         ("operating_pressure", "3 parsecs", "wrong dimension"),
-        ("specific_heat_capacity", "2 furlongs per fortnight", "not a known unit"),
+        ("specific_heat_capacity", "2 blorps", "not a known unit"),
         ("operating_pressure", {"value": "1e999", "unit": "bar"}, "number"),
     ],
 )
@@ -165,7 +165,7 @@ def test_an_accumulation_above_one_is_refused(api, site):
                     {"step": step["id"], "specific_reaction_heat": "100 kJ/kg",
                      "max_accumulation": 1.2}, format="json")
     assert resp.status_code == 400
-    assert "max_accumulation" in resp.json()
+    assert "max_accumulation" in str(resp.json())
     assert "0..1" in str(resp.json())
     assert m.CalorimetryRun.objects.count() == 0
 
