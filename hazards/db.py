@@ -61,7 +61,11 @@ def database_settings() -> dict:
         config["PORT"] = ""
     config.setdefault("OPTIONS", {})
     config["OPTIONS"].setdefault("connect_timeout", 5)
-    config["TEST"] = {"NAME": os.environ.get("EXOLEDGER_TEST_DB_NAME") or None}
+    # One test database per test run, so that runs in parallel (several developers on one
+    # embedded server) never clobber each other's database.
+    config["TEST"] = {
+        "NAME": os.environ.get("EXOLEDGER_TEST_DB_NAME") or f"test_{config['NAME']}_{os.getpid()}"
+    }
     return config
 
 
