@@ -200,7 +200,9 @@ def require_finite_array(name: str, values: object) -> np.ndarray:
         raise CalcInputError(name, values, "must be a sequence of real numbers") from None
     if arr.ndim != 1:
         raise CalcInputError(name, values, "must be one-dimensional")
-    if not np.isfinite(arr).all():
+    # one pass without a temporary: the sum is finite when every entry is (an overflowing
+    # sum of finite entries falls through to the exact check)
+    if not math.isfinite(float(np.add.reduce(arr))) and not np.isfinite(arr).all():
         raise CalcInputError(name, arr, "must contain only finite numbers")
     return arr
 
