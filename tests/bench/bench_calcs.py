@@ -21,7 +21,8 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 
 from calcs.accumulation import analyse_accumulation  # noqa: E402
 from calcs.constants import R  # noqa: E402
-from calcs.tmr import td24, td24_vectorised  # noqa: E402
+from calcs.td_vectorised import td24_vectorised  # noqa: E402
+from calcs.tmr import td24  # noqa: E402
 
 
 def best(func, number: int, repeat: int = 7) -> float:

@@ -5,20 +5,22 @@ import math
 import pytest
 
 from calcs.cooling import (
-    accumulation_end_of_feed_first_order,
     adiabatic_rise_rate,
-    area_to_volume_similar,
     cooling_capacity,
     cooling_margin,
     cooling_time_constant,
-    cylinder_h_equals_d,
     log_mean_temperature_difference,
-    minimum_dosing_time,
-    minimum_dosing_time_first_order,
     plant_peak_heat_release,
     specific_cooling_capacity,
 )
 from calcs.errors import CalcInputError
+from calcs.scale_up import (
+    accumulation_end_of_feed_first_order,
+    area_to_volume_similar,
+    cylinder_h_equals_d,
+    minimum_dosing_time,
+    minimum_dosing_time_first_order,
+)
 
 
 def test_plant_cooling_matches_c2_2():

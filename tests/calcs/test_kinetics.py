@@ -8,15 +8,13 @@ from scipy.optimize import brentq
 
 from calcs.constants import R
 from calcs.errors import CalcInputError
-from calcs.kinetics import (
+from calcs.isoconversional import (
     activation_energy_variation,
-    astm_e698,
-    e698_pre_exponential,
     friedman,
-    kissinger,
     kissinger_akahira_sunose,
     ozawa_flynn_wall,
 )
+from calcs.kinetics import astm_e698, e698_pre_exponential, kissinger
 
 E, A = 120e3, 1e12  # METHODS.md C3.4 generating model, first order
 BETA_K_PER_MIN = np.array([1.0, 2.0, 5.0, 10.0, 20.0])

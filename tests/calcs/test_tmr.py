@@ -10,19 +10,17 @@ from scipy.special import lambertw
 
 from calcs.constants import R
 from calcs.errors import CalcInputError
+from calcs.td_vectorised import td24_vectorised, td_for_time_vectorised
 from calcs.tmr import (
-    b_parameter,
     heat_release_rate_at,
     td8,
     td24,
-    td24_vectorised,
     td_for_time,
-    td_for_time_vectorised,
-    tmr_nth_order,
     tmr_shift_zero_order,
     tmr_zero_order,
     tmr_zero_order_at,
 )
+from calcs.tmr_numeric import b_parameter, tmr_nth_order
 
 
 def test_zero_order_tmr_matches_c3_1():
