@@ -14,16 +14,9 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 
 from django.db import connections, transaction
-from django.db.models import Prefetch
 
 import calcs
-from hazards.models import (
-    CalorimetryRun,
-    CalorimetrySeries,
-    DecompositionTest,
-    IndicatorSnapshot,
-    ReactionStep,
-)
+from hazards.models import IndicatorSnapshot, ReactionStep
 
 
 def canonical_json(data) -> str:
@@ -36,155 +29,168 @@ def sha256_hex(text: str) -> str:
     return hashlib.sha256(text.encode("utf-8")).hexdigest()
 
 
-def _basis(items: list, marked: str = "is_basis"):
-    """The record marked as basis, else the most recent (list is ordered newest first)."""
-    for item in items:
-        if getattr(item, marked):
-            return item, "marked as basis"
-    return (items[0], "most recent") if items else (None, None)
-
-
 @dataclass(frozen=True)
 class StepCase:
     """Everything one step's assessment depends on, as plain data."""
 
+    step_id: int
     inputs: dict
     scenario_inputs: object  # calcs.scenario.StepInputs
-    basis: dict
+    current: dict | None  # id, inputs_hash, calcs_version, criticality_class of the snapshot
 
 
-def _series_inputs(run: CalorimetryRun | None):
+# One query reads every step with all it depends on, however many steps there are. The basis
+# run/test is the one marked as basis, else the most recent (undated ones last).
+_LOAD_SQL = """
+SELECT now(),
+       s.id,
+       row_to_json(s) AS step,
+       (SELECT row_to_json(x) FROM (
+            SELECT v.heat_transfer_area_m2, v.heat_transfer_coefficient_w_per_m2_k,
+                   v.coolant_temperature_k, v.relief_set_pressure_pa, v.design_pressure_pa,
+                   v.headspace_volume_m3
+            FROM hazards_vessel v WHERE v.id = s.vessel_id) x) AS vessel,
+       (SELECT row_to_json(x) FROM (
+            SELECT sv.cas_number, sv.vapour_pressure_source, sv.antoine_a, sv.antoine_b,
+                   sv.antoine_c, sv.antoine_log_base, sv.antoine_pressure_unit,
+                   sv.antoine_temperature_unit, sv.antoine_t_min_k, sv.antoine_t_max_k
+            FROM hazards_solvent sv WHERE sv.id = s.solvent_id) x) AS solvent,
+       (SELECT row_to_json(x) FROM (
+            SELECT r.id, r.is_basis, r.specific_reaction_heat_j_per_kg, r.max_accumulation,
+                   r.max_heat_release_rate_w_per_kg, r.gas_release_mol_per_kg,
+                   ser.sha256 AS series_sha256, ser.data AS series_data,
+                   ser.initial_mass_kg AS series_initial_mass_kg,
+                   ser.feed_mass_kg AS series_feed_mass_kg
+            FROM hazards_calorimetryrun r
+            LEFT JOIN hazards_calorimetryseries ser ON ser.run_id = r.id
+            WHERE r.step_id = s.id
+            ORDER BY r.is_basis DESC, r.run_date DESC NULLS LAST, r.id DESC LIMIT 1) x) AS run,
+       (SELECT row_to_json(x) FROM (
+            SELECT t.id, t.is_basis, t.method, t.onset_temperature_k,
+                   t.decomposition_energy_j_per_kg, t.activation_energy_j_per_mol,
+                   t.reference_temperature_k, t.heat_release_rate_at_reference_w_per_kg,
+                   t.phi_factor,
+                   (SELECT coalesce(json_agg(json_build_array(p.heating_rate_k_per_s,
+                                                              p.peak_temperature_k)
+                                             ORDER BY p.heating_rate_k_per_s), '[]'::json)
+                    FROM hazards_decompositionpeak p WHERE p.test_id = t.id) AS peaks
+            FROM hazards_decompositiontest t
+            WHERE t.step_id = s.id
+            ORDER BY t.is_basis DESC, t.test_date DESC NULLS LAST, t.id DESC LIMIT 1) x) AS test,
+       (SELECT row_to_json(x) FROM (
+            SELECT c.id, c.inputs_hash, c.calcs_version, c.criticality_class
+            FROM hazards_indicatorsnapshot c WHERE c.step_id = s.id AND c.is_current) x)
+           AS current
+FROM hazards_reactionstep s
+WHERE s.id = ANY(%s)
+ORDER BY s.id
+"""
+
+_STEP_FIELDS = ("operation_mode", "process_temperature_k", "reaction_mass_kg",
+                "specific_heat_capacity_j_per_kg_k", "system", "operating_pressure_pa",
+                "dosing_time_s", "mtt_override_k")
+_VESSEL_FIELDS = {
+    "vessel_heat_transfer_area_m2": "heat_transfer_area_m2",
+    "vessel_u_w_per_m2_k": "heat_transfer_coefficient_w_per_m2_k",
+    "vessel_coolant_temperature_k": "coolant_temperature_k",
+    "vessel_relief_set_pressure_pa": "relief_set_pressure_pa",
+    "vessel_design_pressure_pa": "design_pressure_pa",
+    "vessel_headspace_m3": "headspace_volume_m3",
+}
+_RUN_FIELDS = ("specific_reaction_heat_j_per_kg", "max_accumulation",
+               "max_heat_release_rate_w_per_kg", "gas_release_mol_per_kg")
+_TEST_FIELDS = {
+    "decomposition_method": "method",
+    "onset_temperature_k": "onset_temperature_k",
+    "decomposition_energy_j_per_kg": "decomposition_energy_j_per_kg",
+    "activation_energy_j_per_mol": "activation_energy_j_per_mol",
+    "reference_temperature_k": "reference_temperature_k",
+    "heat_release_rate_at_reference_w_per_kg": "heat_release_rate_at_reference_w_per_kg",
+    "phi_factor": "phi_factor",
+}
+_ANTOINE_FIELDS = {"a": "antoine_a", "b": "antoine_b", "c": "antoine_c",
+                   "log_base": "antoine_log_base", "pressure_unit": "antoine_pressure_unit",
+                   "temperature_unit": "antoine_temperature_unit",
+                   "t_min_k": "antoine_t_min_k", "t_max_k": "antoine_t_max_k"}
+
+
+def _chosen(row: dict | None) -> str | None:
+    if row is None:
+        return None
+    return "marked as basis" if row["is_basis"] else "most recent"
+
+
+def case_from_row(step_id: int, step: dict, vessel: dict | None, solvent: dict | None,
+                  run: dict | None, test: dict | None, current: dict | None) -> StepCase:
+    """Assemble one step's cooling-failure scenario from the rows `load_cases` read."""
     from calcs import scenario
 
-    try:
-        series = run.series if run is not None else None
-    except CalorimetrySeries.DoesNotExist:
-        series = None
-    if series is None:
-        return None, None
-    data = series.data
-    return (
-        scenario.SeriesInputs(
+    vessel, run, test = vessel or {}, run or {}, test or {}
+    antoine = None
+    if solvent is not None and solvent["vapour_pressure_source"] == "antoine":
+        antoine = {key: solvent[col] for key, col in _ANTOINE_FIELDS.items()}
+    fields = {name: step[name] for name in _STEP_FIELDS}
+    fields["solvent_cas"] = solvent["cas_number"] if solvent and antoine is None else None
+    fields.update({key: vessel.get(col) for key, col in _VESSEL_FIELDS.items()})
+    fields.update({key: run.get(key) for key in _RUN_FIELDS})
+    fields.update({key: test.get(col) for key, col in _TEST_FIELDS.items()})
+    peaks = [tuple(p) for p in test.get("peaks") or []]
+    data = run.get("series_data")
+    series = None
+    if data is not None:
+        series = scenario.SeriesInputs(
             time_s=data["time_s"],
             heat_release_rate_w=data["heat_release_rate_w"],
             dosed_fraction=data["dosed_fraction"],
             reactor_temperature_k=data.get("reactor_temperature_k"),
-            initial_mass_kg=series.initial_mass_kg,
-            feed_mass_kg=series.feed_mass_kg,
-        ),
-        series.sha256,
-    )
-
-
-def build_case(step: ReactionStep) -> StepCase:
-    """Assemble a step's cooling-failure scenario from its (prefetched) records."""
-    from calcs import scenario
-
-    runs = list(step.calorimetry_runs.all())
-    tests = list(step.decomposition_tests.all())
-    run, run_why = _basis(runs)
-    test, test_why = _basis(tests)
-    solvent, vessel = step.solvent, step.vessel
-    series, series_hash = _series_inputs(run)
-
-    antoine = None
-    if solvent is not None and solvent.vapour_pressure_source == "antoine":
-        antoine = scenario.AntoineInputs(
-            a=solvent.antoine_a,
-            b=solvent.antoine_b,
-            c=solvent.antoine_c,
-            log_base=solvent.antoine_log_base,
-            pressure_unit=solvent.antoine_pressure_unit,
-            temperature_unit=solvent.antoine_temperature_unit,
-            t_min_k=solvent.antoine_t_min_k,
-            t_max_k=solvent.antoine_t_max_k,
+            initial_mass_kg=run["series_initial_mass_kg"],
+            feed_mass_kg=run["series_feed_mass_kg"],
         )
-    peaks = tuple(
-        (p.heating_rate_k_per_s, p.peak_temperature_k) for p in test.peaks.all()
-    ) if test is not None else ()
-
-    fields = {
-        "operation_mode": step.operation_mode,
-        "process_temperature_k": step.process_temperature_k,
-        "reaction_mass_kg": step.reaction_mass_kg,
-        "specific_heat_capacity_j_per_kg_k": step.specific_heat_capacity_j_per_kg_k,
-        "system": step.system,
-        "operating_pressure_pa": step.operating_pressure_pa,
-        "dosing_time_s": step.dosing_time_s,
-        "mtt_override_k": step.mtt_override_k,
-        "solvent_cas": solvent.cas_number if solvent and not antoine else None,
-        "vessel_heat_transfer_area_m2": vessel.heat_transfer_area_m2 if vessel else None,
-        "vessel_u_w_per_m2_k": vessel.heat_transfer_coefficient_w_per_m2_k if vessel else None,
-        "vessel_coolant_temperature_k": vessel.coolant_temperature_k if vessel else None,
-        "vessel_relief_set_pressure_pa": vessel.relief_set_pressure_pa if vessel else None,
-        "vessel_design_pressure_pa": vessel.design_pressure_pa if vessel else None,
-        "vessel_headspace_m3": vessel.headspace_volume_m3 if vessel else None,
-        "specific_reaction_heat_j_per_kg": run.specific_reaction_heat_j_per_kg if run else None,
-        "max_accumulation": run.max_accumulation if run else None,
-        "max_heat_release_rate_w_per_kg": run.max_heat_release_rate_w_per_kg if run else None,
-        "gas_release_mol_per_kg": run.gas_release_mol_per_kg if run else None,
-        "decomposition_method": test.method if test else None,
-        "onset_temperature_k": test.onset_temperature_k if test else None,
-        "decomposition_energy_j_per_kg": test.decomposition_energy_j_per_kg if test else None,
-        "activation_energy_j_per_mol": test.activation_energy_j_per_mol if test else None,
-        "reference_temperature_k": test.reference_temperature_k if test else None,
-        "heat_release_rate_at_reference_w_per_kg": (
-            test.heat_release_rate_at_reference_w_per_kg if test else None
-        ),
-        "phi_factor": test.phi_factor if test else None,
-    }
     scenario_inputs = scenario.StepInputs(
         **fields,
-        solvent_antoine=antoine,
+        solvent_antoine=scenario.AntoineInputs(**antoine) if antoine else None,
         series=series,
-        peak_temperatures=peaks or None,
+        peak_temperatures=tuple(peaks) or None,
     )
-    basis = {
-        "calorimetry_run": run.pk if run else None,
-        "calorimetry_run_chosen": run_why,
-        "decomposition_test": test.pk if test else None,
-        "decomposition_test_chosen": test_why,
-        "solvent": solvent.pk if solvent else None,
-        "vessel": vessel.pk if vessel else None,
-    }
     inputs = {
         **fields,
-        "solvent_antoine": None if antoine is None else {
-            "a": antoine.a, "b": antoine.b, "c": antoine.c, "log_base": antoine.log_base,
-            "pressure_unit": antoine.pressure_unit, "temperature_unit": antoine.temperature_unit,
-            "t_min_k": antoine.t_min_k, "t_max_k": antoine.t_max_k,
-        },
-        "series_sha256": series_hash,
+        "solvent_antoine": antoine,
+        "series_sha256": run.get("series_sha256"),
         "peak_temperatures": [list(p) for p in peaks],
-        "basis": basis,
+        "basis": {
+            "calorimetry_run": run.get("id"),
+            "calorimetry_run_chosen": _chosen(run or None),
+            "decomposition_test": test.get("id"),
+            "decomposition_test_chosen": _chosen(test or None),
+            "solvent": step["solvent_id"],
+            "vessel": step["vessel_id"],
+        },
     }
-    return StepCase(inputs=inputs, scenario_inputs=scenario_inputs, basis=basis)
+    return StepCase(step_id=step_id, inputs=inputs, scenario_inputs=scenario_inputs,
+                    current=current)
 
 
-def steps_for_assessment(step_ids: Iterable[int]):
-    """The steps with everything `build_case` reads, in a fixed number of queries."""
-    return (
-        ReactionStep._base_manager.filter(pk__in=list(step_ids))
-        .select_related("solvent", "vessel")
-        .prefetch_related(
-            Prefetch(
-                "calorimetry_runs",
-                queryset=CalorimetryRun._base_manager.select_related("series").order_by(
-                    "-run_date", "-id"
-                ),
-            ),
-            Prefetch(
-                "decomposition_tests",
-                queryset=DecompositionTest._base_manager.order_by("-test_date", "-id")
-                .prefetch_related("peaks"),
-            ),
-            Prefetch(
-                "snapshots",
-                queryset=IndicatorSnapshot.objects.filter(is_current=True),
-                to_attr="current_snapshots",
-            ),
-        )
-    )
+def load_cases_at(step_ids: Iterable[int], *, using: str = "default"):
+    """The cases of the given steps, read in one query, with the database clock of this
+    transaction (the time every snapshot of the transaction carries)."""
+    ids = sorted(set(step_ids))
+    if not ids:
+        return [], None
+    with connections[using].cursor() as cursor:
+        cursor.execute(_LOAD_SQL, [ids])
+        rows = cursor.fetchall()
+    if not rows:
+        return [], None
+    return [case_from_row(*row[1:]) for row in rows], rows[0][0]
+
+
+def load_cases(step_ids: Iterable[int], *, using: str = "default") -> list[StepCase]:
+    """The cases of the given steps, read in one query."""
+    return load_cases_at(step_ids, using=using)[0]
+
+
+def inputs_hash(case: StepCase) -> str:
+    return sha256_hex(canonical_json(case.inputs))
 
 
 PROVENANCE_KEYS = ("warnings", "methods", "parameters", "references")
@@ -199,17 +205,17 @@ def assess(case: StepCase) -> dict:
     return {"values": data, **provenance}
 
 
-def _snapshot_from(step: ReactionStep, case: StepCase, inputs_hash: str, now) -> IndicatorSnapshot:
+def snapshot_for(case: StepCase, digest: str, now) -> IndicatorSnapshot:
     data = assess(case)
     return IndicatorSnapshot(
-        step=step,
+        step_id=case.step_id,
         computed_at=now,
         inputs=case.inputs,
-        inputs_hash=inputs_hash,
+        inputs_hash=digest,
         calcs_version=calcs.__version__,
         values=data["values"],
         methods=data["methods"],
-        parameters=data.get("parameters", {}),
+        parameters=data["parameters"],
         warnings=list(data["warnings"]),
         references=list(data["references"]),
         criticality_class=data["values"].get("criticality_class"),
@@ -218,40 +224,47 @@ def _snapshot_from(step: ReactionStep, case: StepCase, inputs_hash: str, now) ->
 
 
 def recompute_steps(step_ids: Iterable[int], *, using: str = "default", force: bool = False):
-    """Recompute the given steps; returns {step_id: (old_class, new_class)} of those renewed."""
-    ids = sorted(set(step_ids))
-    if not ids:
-        return {}
+    """Recompute the given steps; returns {step_id: (old_class, new_class)} of those renewed.
+
+    A step whose inputs and `calcs` version are unchanged keeps its snapshot (unless `force`).
+    """
     changed: dict[int, tuple] = {}
     with transaction.atomic(using=using):
-        with connections[using].cursor() as cursor:
-            cursor.execute("SELECT now()")
-            (now,) = cursor.fetchone()
-        fresh, retire, stale_approval = [], [], []
-        for step in steps_for_assessment(ids).using(using):
-            case = build_case(step)
-            inputs_hash = sha256_hex(canonical_json(case.inputs))
-            current = step.current_snapshots[0] if step.current_snapshots else None
-            if (not force and current is not None and current.inputs_hash == inputs_hash
-                    and current.calcs_version == calcs.__version__):
+        cases, now = load_cases_at(step_ids, using=using)
+        fresh, retire, digests = [], [], {}
+        for case in cases:
+            digest = inputs_hash(case)
+            current = case.current
+            if (not force and current is not None and current["inputs_hash"] == digest
+                    and current["calcs_version"] == calcs.__version__):
                 continue
-            snap = _snapshot_from(step, case, inputs_hash, now)
+            snap = snapshot_for(case, digest, now)
             fresh.append(snap)
+            digests[case.step_id] = digest
             if current is not None:
-                retire.append(current.pk)
-            changed[step.pk] = (current.criticality_class if current else None,
-                                snap.criticality_class)
-            if step.approved_inputs_hash and step.approved_inputs_hash != inputs_hash:
-                stale_approval.append(step.pk)
+                retire.append(current["id"])
+            changed[case.step_id] = (current["criticality_class"] if current else None,
+                                     snap.criticality_class)
         if retire:
             IndicatorSnapshot.objects.using(using).filter(pk__in=retire).update(is_current=False)
         if fresh:
             IndicatorSnapshot.objects.using(using).bulk_create(fresh)
-        if stale_approval:
-            ReactionStep._base_manager.using(using).filter(pk__in=stale_approval).update(
-                needs_review=True
-            )
+            _mark_stale_approvals(digests, using)
     return changed
+
+
+def _mark_stale_approvals(digests: dict[int, str], using: str) -> None:
+    """Steps approved on other inputs than they now have need review again (one statement)."""
+    with connections[using].cursor() as cursor:
+        cursor.execute(
+            """
+            UPDATE hazards_reactionstep s SET needs_review = true
+            FROM unnest(%s::bigint[], %s::text[]) AS d(id, digest)
+            WHERE s.id = d.id AND s.approved_inputs_hash <> '' AND s.approved_inputs_hash <> d.digest
+              AND NOT s.needs_review
+            """,
+            [list(digests), list(digests.values())],
+        )
 
 
 def flush_pending(*, using: str = "default") -> dict:

@@ -33,7 +33,7 @@ def _setup():
     from django.db import connection
 
     old_name = settings.DATABASES["default"]["NAME"]
-    connection.creation.create_test_db(verbosity=0, autoclobber=True, keepdb=False)
+    connection.creation.create_test_db(verbosity=0, autoclobber=True, keepdb=False, serialize=False)
     return connection, old_name
 
 
@@ -54,12 +54,10 @@ def main() -> None:
 
         from hazards import models as m
         from hazards.services.indicators import (
-            _snapshot_from,
-            build_case,
-            canonical_json,
+            inputs_hash,
+            load_cases,
             recompute_steps,
-            sha256_hex,
-            steps_for_assessment,
+            snapshot_for,
         )
         from tests.factories import (
             CalorimetryRunFactory,
@@ -78,13 +76,11 @@ def main() -> None:
         def full():
             recompute_steps([step.pk], force=True)
 
-        (loaded,) = steps_for_assessment([step.pk])
-        case = build_case(loaded)
+        (case,) = load_cases([step.pk])
         snap = m.IndicatorSnapshot.objects.filter(step=step, is_current=True).get()
 
         def baseline():
-            h = sha256_hex(canonical_json(case.inputs))
-            _snapshot_from(loaded, case, h, snap.computed_at)
+            snapshot_for(case, inputs_hash(case), snap.computed_at)
             row = m.IndicatorSnapshot.objects.filter(pk=snap.pk).values().get()
             m.IndicatorSnapshot.objects.filter(pk=snap.pk).update(values=row["values"])
 
@@ -117,7 +113,7 @@ def main() -> None:
                 )
             area = [10.0]
 
-            def change():
+            def change(vessel=vessel, area=area):
                 area[0] += 0.5
                 vessel.heat_transfer_area_m2 = area[0]
                 vessel.save()

@@ -12,13 +12,7 @@ from django.db import connection, transaction
 from django.db.utils import IntegrityError, InternalError
 
 from hazards import models as m
-from hazards.services.indicators import (
-    build_case,
-    canonical_json,
-    flush_pending,
-    sha256_hex,
-    steps_for_assessment,
-)
+from hazards.services.indicators import flush_pending, inputs_hash, load_cases
 from tests.factories import (
     CalorimetryRunFactory,
     DecompositionTestFactory,
@@ -32,8 +26,8 @@ pytestmark = pytest.mark.django_db
 def assert_fresh(step_or_id):
     """The current snapshot exists, is unique, and hashes the inputs as stored now."""
     pk = getattr(step_or_id, "pk", step_or_id)
-    (step,) = steps_for_assessment([pk])
-    expected = sha256_hex(canonical_json(build_case(step).inputs))
+    (case,) = load_cases([pk])
+    expected = inputs_hash(case)
     current = m.IndicatorSnapshot.objects.filter(step_id=pk, is_current=True)
     assert current.count() == 1
     assert current.get().inputs_hash == expected
