@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from django.core.exceptions import ValidationError as DjangoValidationError
+from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
 
 from hazards.api.fields import QuantityField
@@ -44,11 +45,21 @@ class RecordSerializer(serializers.ModelSerializer):
                 detail = {"non_field_errors": exc.messages}
             raise serializers.ValidationError(detail) from None
 
+    version = serializers.IntegerField(
+        read_only=True, help_text="Incremented on every change; the ETag is built from it."
+    )
+
+    def get_field_names(self, declared_fields, info):
+        names = list(super().get_field_names(declared_fields, info))
+        return names if "version" in names else [*names, "version"]
+
     def create(self, validated_data):
         return self._run(record_create, model=self.Meta.model, data=validated_data)
 
     def update(self, instance, validated_data):
-        return self._run(record_update, instance=instance, data=validated_data)
+        # `expected_version` comes from If-Match: checked under a row lock by the service.
+        return self._run(record_update, instance=instance, data=validated_data,
+                         expected_version=self.context.get("expected_version"))
 
 
 class SiteSerializer(RecordSerializer):
@@ -147,6 +158,38 @@ def indicators_payload(snapshot: IndicatorSnapshot | None) -> dict | None:
     return payload
 
 
+class IndicatorsSerializer(serializers.Serializer):
+    """The `indicators` object (documentation of `indicators_payload`; read only)."""
+
+    adiabatic_temperature_rise = QuantityField("temperature_difference", allow_null=True)
+    mtsr = QuantityField("temperature", allow_null=True, help_text="Maximum temperature of the "
+                         "synthesis reaction after a cooling failure.")
+    mtt = QuantityField("temperature", allow_null=True, help_text="Maximum technical "
+                        "temperature.")
+    td24 = QuantityField("temperature", allow_null=True, help_text="Temperature at which the "
+                         "time to maximum rate under adiabatic conditions is 24 h.")
+    tmr_ad_at_mtsr = QuantityField("duration_h", allow_null=True)
+    criticality_class = serializers.IntegerField(allow_null=True, min_value=1, max_value=5)
+    severity = serializers.JSONField(allow_null=True)
+    probability = serializers.JSONField(allow_null=True)
+    risk_cell = serializers.JSONField(allow_null=True)
+    cooling_margin = serializers.JSONField(allow_null=True)
+    cooling_capacity = QuantityField("power", allow_null=True)
+    plant_peak_heat_release = QuantityField("power", allow_null=True)
+    minimum_dosing_time = QuantityField("time", allow_null=True)
+    mtsr_time = QuantityField("time", allow_null=True)
+    end_pressure = QuantityField("pressure", allow_null=True)
+    td24_below_process_temperature = serializers.JSONField(allow_null=True)
+    warnings = serializers.ListField(child=serializers.JSONField())
+    methods = serializers.DictField(child=serializers.JSONField(),
+                                    help_text="Indicator -> the calcs method that produced it.")
+    parameters = serializers.DictField(child=serializers.JSONField())
+    references = serializers.ListField(child=serializers.JSONField())
+    inputs_hash = serializers.CharField(help_text="SHA-256 of the canonical JSON of the inputs.")
+    calcs_version = serializers.CharField()
+    computed_at = serializers.DateTimeField()
+
+
 class StepSerializer(RecordSerializer):
     process = serializers.PrimaryKeyRelatedField(queryset=Process.objects.all())
     solvent = serializers.PrimaryKeyRelatedField(
@@ -181,6 +224,7 @@ class StepSerializer(RecordSerializer):
         step.__dict__.pop("current_snapshots", None)  # prefetched before the write: stale
         return step
 
+    @extend_schema_field(IndicatorsSerializer(allow_null=True))
     def get_indicators(self, step) -> dict | None:
         current = getattr(step, "current_snapshots", None)
         if current is not None:
@@ -250,5 +294,13 @@ class IndicatorSnapshotSerializer(serializers.ModelSerializer):
         fields = ["id", "computed_at", "is_current", "inputs_hash", "calcs_version", "indicators",
                   "inputs"]
 
+    @extend_schema_field(IndicatorsSerializer)
     def get_indicators(self, snapshot) -> dict:
         return indicators_payload(snapshot)
+
+
+class ProblemTypeSerializer(serializers.Serializer):
+    code = serializers.CharField()
+    status = serializers.IntegerField()
+    title = serializers.CharField()
+    description = serializers.CharField()

@@ -3,13 +3,16 @@
 from __future__ import annotations
 
 from django.contrib.auth import authenticate
-from drf_spectacular.utils import extend_schema, inline_serializer
-from rest_framework import exceptions, serializers, status
+from django.utils import timezone
+from drf_spectacular.utils import extend_schema, extend_schema_field, inline_serializer
+from rest_framework import exceptions, permissions, serializers, status, viewsets
+from rest_framework.decorators import action
 from rest_framework.permissions import AllowAny
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from hazards.api.auth import issue_token
+from hazards.api.filters import TokenFilter
 from hazards.models import ApiToken
 from hazards.models.tokens import hash_token
 
@@ -44,3 +47,68 @@ class ObtainTokenView(APIView):
         raw = issue_token(user=user, name="password exchange")
         token = ApiToken.objects.get(key_hash=hash_token(raw))
         return Response({"token": raw, "expires_at": token.expires_at}, status=status.HTTP_200_OK)
+
+
+# --- administration of tokens ----------------------------------------------------------
+
+
+class TokenAdminPermission(permissions.BasePermission):
+    """Staff with `hazards.view_apitoken` list tokens; revoking needs `change_apitoken`."""
+
+    def has_permission(self, request, view):
+        user = request.user
+        if not (user and user.is_authenticated and user.is_staff):
+            return False
+        needed = "hazards.view_apitoken" if request.method in permissions.SAFE_METHODS \
+            else "hazards.change_apitoken"
+        return user.has_perm(needed)
+
+    def describe(self, view, method):
+        needed = "view" if method in permissions.SAFE_METHODS else "change"
+        return f"a staff account with `hazards.{needed}_apitoken`"
+
+
+class ApiTokenSerializer(serializers.ModelSerializer):
+    user = serializers.CharField(source="user.username", read_only=True)
+    service_account = serializers.SerializerMethodField()
+    state = serializers.SerializerMethodField()
+
+    class Meta:
+        model = ApiToken
+        fields = ["id", "user", "service_account", "name", "prefix", "state", "created_at",
+                  "expires_at", "revoked_at", "last_used_at"]
+        read_only_fields = fields
+
+    def get_service_account(self, token) -> bool:
+        return hasattr(token.user, "service_account")
+
+    @extend_schema_field(serializers.ChoiceField(choices=["active", "expired", "revoked"]))
+    def get_state(self, token) -> str:
+        if token.revoked_at is not None:
+            return "revoked"
+        return "expired" if token.expires_at <= timezone.now() else "active"
+
+
+class ApiTokenViewSet(viewsets.ReadOnlyModelViewSet):
+    """API tokens of all users and service accounts (never the token or its hash)."""
+
+    permission_classes = [permissions.IsAuthenticated, TokenAdminPermission]
+    serializer_class = ApiTokenSerializer
+    queryset = ApiToken.objects.select_related("user", "user__service_account")
+    filterset_class = TokenFilter
+    ordering_fields = ["created_at", "expires_at", "last_used_at", "id"]
+
+    @extend_schema(request=None, responses={200: ApiTokenSerializer})
+    @action(detail=True, methods=["post"], url_path="revoke")
+    def revoke(self, request, pk=None):
+        """Revoke the token at once; revoking a revoked token changes nothing."""
+        token = revoke_token(token=self.get_object())
+        return Response(self.get_serializer(token).data)
+
+
+def revoke_token(*, token: ApiToken) -> ApiToken:
+    if token.revoked_at is None:
+        ApiToken.objects.filter(pk=token.pk, revoked_at__isnull=True).update(
+            revoked_at=timezone.now())
+        token.refresh_from_db()
+    return token

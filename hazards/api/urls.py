@@ -3,7 +3,7 @@ from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerView
 from rest_framework.routers import DefaultRouter
 
 from hazards.api import views
-from hazards.api.token_views import ObtainTokenView
+from hazards.api.token_views import ApiTokenViewSet, ObtainTokenView
 
 router = DefaultRouter()
 router.register("sites", views.SiteViewSet, basename="site")
@@ -13,10 +13,12 @@ router.register("calorimetry-runs", views.CalorimetryRunViewSet, basename="calor
 router.register("decomposition-tests", views.DecompositionTestViewSet, basename="decompositiontest")
 router.register("vessels", views.VesselViewSet, basename="vessel")
 router.register("solvents", views.SolventViewSet, basename="solvent")
+router.register("tokens", ApiTokenViewSet, basename="apitoken")
 
 urlpatterns = [
     path("auth/token/", ObtainTokenView.as_view(), name="api-token"),
     path("schema/", SpectacularAPIView.as_view(), name="api-schema"),
     path("docs/", SpectacularSwaggerView.as_view(url_name="api-schema"), name="api-docs"),
+    path("problems/", views.ProblemTypesView.as_view(), name="api-problems"),
     path("", include(router.urls)),
 ]

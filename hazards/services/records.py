@@ -1,10 +1,45 @@
-"""Writes of records: validated with `full_clean()` and saved inside one transaction."""
+"""Writes of records: validated with `full_clean()` and saved inside one transaction.
+
+`expected_version` is the optimistic lock shared by the API (`If-Match`) and the browser
+forms: the row is locked (`SELECT … FOR UPDATE`) inside the transaction, its `version`
+compared, and only then written, so two editors of one version cannot both win.
+"""
 
 from __future__ import annotations
 
 from typing import Any
 
 from django.db import models, transaction
+
+STALE_RECORD = "The record was changed by someone else since you read it (version {expected}; now {current})."
+
+
+class StaleRecord(Exception):
+    """The record's version is no longer the one the change was based on."""
+
+    def __init__(self, *, expected: int, current: int | None):
+        self.expected, self.current = expected, current
+        super().__init__(STALE_RECORD.format(expected=expected, current=current))
+
+
+def lock_version(*, instance: models.Model, expected_version: int | None) -> None:
+    """Lock the record's row for this transaction; raise `StaleRecord` unless it is at
+    `expected_version`, and bring `instance` up to the locked row (call inside atomic)."""
+    if expected_version is None:
+        return
+    model = type(instance)
+    current = (
+        model._base_manager.select_for_update()
+        .filter(pk=instance.pk)
+        .values_list("version", flat=True)
+        .first()
+    )
+    if current is None:
+        raise model.DoesNotExist(f"{model._meta.verbose_name} {instance.pk} no longer exists.")
+    if current != expected_version:
+        raise StaleRecord(expected=expected_version, current=current)
+    if getattr(instance, "version", None) != current:
+        instance.refresh_from_db()
 
 
 def record_create(*, model: type[models.Model], data: dict[str, Any]) -> models.Model:
@@ -16,9 +51,15 @@ def record_create(*, model: type[models.Model], data: dict[str, Any]) -> models.
     return instance
 
 
-def record_update(*, instance: models.Model, data: dict[str, Any]) -> models.Model:
-    """Apply field values to a record and save it after `full_clean()`."""
+def record_update(*, instance: models.Model, data: dict[str, Any],
+                  expected_version: int | None = None) -> models.Model:
+    """Apply field values to a record and save it after `full_clean()`.
+
+    With `expected_version`, refuse with `StaleRecord` unless the stored row is still at
+    that version (checked under a row lock, so the check and the write are one step).
+    """
     with transaction.atomic():
+        lock_version(instance=instance, expected_version=expected_version)
         for name, value in data.items():
             setattr(instance, name, value)
         instance.full_clean()
@@ -26,6 +67,7 @@ def record_update(*, instance: models.Model, data: dict[str, Any]) -> models.Mod
     return instance
 
 
-def record_delete(*, instance: models.Model) -> None:
+def record_delete(*, instance: models.Model, expected_version: int | None = None) -> None:
     with transaction.atomic():
+        lock_version(instance=instance, expected_version=expected_version)
         instance.delete()

@@ -1,0 +1,260 @@
+"""The OpenAPI side of the API: problem responses, precondition headers, quantity fields.
+
+`ExoledgerAutoSchema` (settings `DEFAULT_SCHEMA_CLASS`) adds to every operation the problem
+responses it can give (`application/problem+json`), the `ETag` / `If-Match` /
+`Idempotency-Key` headers of the views that use them, and a line naming the permission the
+operation needs. The quantity field documents its canonical unit per field
+(`x-canonical-unit`) and the two shapes it has: any accepted input, one output object.
+"""
+
+from __future__ import annotations
+
+from drf_spectacular.extensions import (
+    OpenApiAuthenticationExtension,
+    OpenApiSerializerFieldExtension,
+)
+from drf_spectacular.openapi import AutoSchema
+from drf_spectacular.types import OpenApiTypes
+from drf_spectacular.utils import OpenApiParameter
+from rest_framework import permissions, serializers
+
+from hazards.api.errors import PROBLEM_MEDIA_TYPE, PROBLEM_TYPES
+from hazards.quantities import SPECS, display_unit
+
+# --- problem documents -------------------------------------------------------------
+
+
+class ProblemItemSerializer(serializers.Serializer):
+    field = serializers.CharField(allow_null=True, help_text="The refused field (dotted path), "
+                                  "or null for the record as a whole.")
+    value = serializers.JSONField(allow_null=True, help_text="The value as submitted (secrets "
+                                  "and long values are not echoed).")
+    rule = serializers.CharField(help_text="The rule the value breaks, in words.")
+    code = serializers.CharField(help_text="Machine-readable code of the rule.")
+    row = serializers.IntegerField(required=False, allow_null=True,
+                                   help_text="Uploaded files: the record number, header = 1.")
+    column = serializers.CharField(required=False, allow_null=True,
+                                   help_text="Uploaded files: the column as named in the header.")
+
+
+class ProblemSerializer(serializers.Serializer):
+    """RFC 9457 problem details."""
+
+    type = serializers.CharField(help_text="URI reference of the problem type "
+                                 "(`/api/v1/problems/#<code>`).")
+    title = serializers.CharField()
+    status = serializers.IntegerField()
+    detail = serializers.CharField()
+    code = serializers.ChoiceField(choices=sorted(PROBLEM_TYPES))
+    instance = serializers.CharField(required=False, help_text="The request path.")
+    errors = ProblemItemSerializer(many=True, required=False)
+    current_etag = serializers.CharField(required=False, help_text="412 only: the record's "
+                                         "current ETag.")
+
+
+# --- authentication ------------------------------------------------------------------
+
+
+class HashedTokenScheme(OpenApiAuthenticationExtension):
+    target_class = "hazards.api.auth.HashedTokenAuthentication"
+    name = "tokenAuth"
+
+    def get_security_definition(self, auto_schema):
+        return {
+            "type": "apiKey",
+            "in": "header",
+            "name": "Authorization",
+            "description": "`Authorization: Token <token>`. Tokens come from "
+                           "`POST /api/v1/auth/token/` or `manage.py service_account issue`; "
+                           "the server keeps only their SHA-256, and they expire "
+                           "(EXOLEDGER_API_TOKEN_TTL_HOURS) or are revoked.",
+        }
+
+
+# --- quantities ----------------------------------------------------------------------
+
+
+def quantity_output_schema(kind: str, nullable: bool = False) -> dict:
+    unit = display_unit(kind)
+    schema = {
+        "type": "object",
+        "properties": {
+            "value": {"type": "number"},
+            "unit": {"type": "string", "enum": [unit]},
+        },
+        "required": ["value", "unit"],
+        "x-canonical-unit": unit,
+    }
+    if nullable:
+        schema["nullable"] = True
+    return schema
+
+
+def quantity_input_schema(kind: str, nullable: bool = False) -> dict:
+    spec = SPECS[kind]
+    unit = display_unit(kind)
+    props = {
+        "value": {"type": "number"},
+        "unit": {"type": "string", "description": f"Any unit compatible with {unit or '1'}."},
+    }
+    if spec.accepts_molar:
+        props["molar_mass"] = {
+            "description": "For a molar heat (e.g. kJ/mol): the molar mass it refers to, "
+                           "itself a quantity (`\"150 g/mol\"`).",
+            "oneOf": [{"type": "string"}, {"type": "number"},
+                      {"type": "object", "properties": {"value": {"type": "number"},
+                                                        "unit": {"type": "string"}},
+                       "required": ["value"], "additionalProperties": False}],
+        }
+    schema = {
+        "oneOf": [
+            {"type": "object", "properties": props, "required": ["value"],
+             "additionalProperties": False},
+            {"type": "string", "example": f"1 {unit}".strip(),
+             "description": "A number followed by a unit."},
+            {"type": "number", "description": f"In the canonical unit ({unit or '1'})."},
+        ],
+        "x-canonical-unit": unit,
+    }
+    if nullable:
+        schema["nullable"] = True
+    return schema
+
+
+class QuantityFieldExtension(OpenApiSerializerFieldExtension):
+    target_class = "hazards.api.fields.QuantityField"
+    match_subclasses = True
+
+    def map_serializer_field(self, auto_schema, direction):
+        field = self.target
+        nullable = bool(getattr(field, "allow_null", False))
+        if getattr(field, "form_only", False):
+            return {"type": "string", "description": str(field.help_text or ""),
+                    "example": f"1 {display_unit(field.kind)}".strip(),
+                    "x-canonical-unit": display_unit(field.kind)}
+        if direction == "response":
+            schema = quantity_output_schema(field.kind, nullable)
+        else:
+            schema = quantity_input_schema(field.kind, nullable)
+        if field.help_text:
+            schema["description"] = str(field.help_text)
+        return schema
+
+
+# --- operations ----------------------------------------------------------------------
+
+ETAG_HEADER = OpenApiParameter(
+    "ETag", OpenApiTypes.STR, OpenApiParameter.HEADER, response=[200, 201], required=True,
+    description="The record's version; send it back in `If-Match` to change or delete it.",
+)
+IF_MATCH = OpenApiParameter(
+    "If-Match", OpenApiTypes.STR, OpenApiParameter.HEADER, required=True,
+    description="The `ETag` of the representation being changed. Missing: 428; stale: 412.",
+)
+IF_MATCH_OPTIONAL = OpenApiParameter(
+    "If-Match", OpenApiTypes.STR, OpenApiParameter.HEADER, required=False,
+    description="Optional: the `ETag` of the parent record; when given, a stale one gets 412.",
+)
+IDEMPOTENCY_KEY = OpenApiParameter(
+    "Idempotency-Key", OpenApiTypes.STR, OpenApiParameter.HEADER, required=False,
+    description="Any 1-255 printable ASCII characters. Retrying with the same key and body "
+                "returns the first response (status and body) without a second effect; "
+                "the same key with another body gets 422. Keys are kept 24 h per user.",
+)
+
+
+def describe_permissions(view, method: str) -> str:
+    parts = []
+    for perm in view.get_permissions():
+        describe = getattr(perm, "describe", None)
+        if describe is not None:
+            text = describe(view, method)
+        elif isinstance(perm, permissions.AllowAny):
+            text = "none (public)"
+        elif isinstance(perm, permissions.IsAdminUser):
+            text = "a staff account"
+        elif isinstance(perm, permissions.IsAuthenticated):
+            text = "signed in (token or session)"
+        else:
+            text = perm.__class__.__name__
+        if text:
+            parts.append(text)
+    return "; ".join(dict.fromkeys(parts)) or "none (public)"
+
+
+class ExoledgerAutoSchema(AutoSchema):
+    def _is_detail(self) -> bool:
+        return "{" in self.path
+
+    def _uses_etag(self) -> bool:
+        return bool(getattr(self.view, "etag_enabled", False))
+
+    def _write(self) -> bool:
+        return self.method in ("PUT", "PATCH", "DELETE")
+
+    def get_override_parameters(self):
+        params = list(super().get_override_parameters())
+        if self._uses_etag():
+            action = getattr(self.view, "action", None)
+            if self.method == "GET" and action == "retrieve":
+                params.append(ETAG_HEADER)
+            elif self.method in ("PUT", "PATCH"):
+                params += [IF_MATCH, ETAG_HEADER]
+            elif self.method == "DELETE":
+                params.append(IF_MATCH)
+            elif self.method == "POST" and action == "create":
+                params.append(ETAG_HEADER)
+        if self.method == "POST" and getattr(self.view, "idempotent_actions", None) and (
+            getattr(self.view, "action", None) in self.view.idempotent_actions
+            or self.view.idempotent_actions == "*"
+        ):
+            params.append(IDEMPOTENCY_KEY)
+        extra = getattr(self.view, "extra_header_parameters", {})
+        params += extra.get(getattr(self.view, "action", None) or self.method.lower(), [])
+        return params
+
+    def get_description(self):
+        text = super().get_description() or ""
+        perm = describe_permissions(self.view, self.method)
+        return f"{text}\n\n**Permission:** {perm}.".strip()
+
+    def _error_codes(self) -> dict[int, list[str]]:
+        codes: dict[int, list[str]] = {400: ["validation_error", "parse_error", "bad_request"]}
+        public = any(isinstance(p, permissions.AllowAny) for p in self.view.get_permissions())
+        codes[401] = ["not_authenticated", "authentication_failed"]
+        if not public:
+            codes[403] = ["permission_denied"]
+        else:
+            codes[403] = ["permission_denied", "authentication_failed"]
+        if self._is_detail():
+            codes[404] = ["not_found"]
+        if self.method in ("POST", "PUT", "PATCH"):
+            codes[413] = ["payload_too_large"]
+            codes[415] = ["unsupported_media_type"]
+        if self._uses_etag() and self._write():
+            codes[412] = ["precondition_failed"]
+            codes[428] = ["precondition_required"]
+        for status, extra in getattr(self.view, "extra_problems", {}).get(
+            getattr(self.view, "action", None) or self.method.lower(), {}
+        ).items():
+            codes.setdefault(status, []).extend(extra)
+        if self.method == "POST" and IDEMPOTENCY_KEY in self.get_override_parameters():
+            codes.setdefault(409, []).append("idempotency_key_in_progress")
+            codes.setdefault(422, []).append("idempotency_key_reused")
+        codes[503] = ["database_unavailable"]
+        return codes
+
+    def _get_response_bodies(self, direction="response"):
+        responses = super()._get_response_bodies(direction)
+        for status, codes in sorted(self._error_codes().items()):
+            key = str(status)
+            if key in responses:
+                continue
+            response = self._get_response_for_code(
+                ProblemSerializer, key, media_types=[PROBLEM_MEDIA_TYPE], direction=direction
+            )
+            response["description"] = "Problem details, `code` one of " + ", ".join(
+                f"`{c}`" for c in dict.fromkeys(codes)
+            )
+            responses[key] = response
+        return responses
