@@ -50,6 +50,7 @@ INSTALLED_APPS = [
     "pghistory",
     "pghistory.admin",
     "hazards",
+    "hazards.integration",
 ]
 
 MIDDLEWARE = [
@@ -123,7 +124,7 @@ REST_FRAMEWORK = {
         "rest_framework.authentication.SessionAuthentication",
     ],
     "DEFAULT_PERMISSION_CLASSES": ["rest_framework.permissions.IsAuthenticated"],
-    "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
+    "DEFAULT_SCHEMA_CLASS": "hazards.api.schema.ExoledgerAutoSchema",
     "DEFAULT_FILTER_BACKENDS": [
         "django_filters.rest_framework.DjangoFilterBackend",
         "rest_framework.filters.OrderingFilter",
