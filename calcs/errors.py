@@ -202,7 +202,9 @@ def require_finite_array(name: str, values: object) -> np.ndarray:
         raise CalcInputError(name, values, "must be one-dimensional")
     # one pass without a temporary: the sum is finite when every entry is (an overflowing
     # sum of finite entries falls through to the exact check)
-    if not math.isfinite(float(np.add.reduce(arr))) and not np.isfinite(arr).all():
+    with np.errstate(over="ignore", invalid="ignore"):
+        total = float(np.add.reduce(arr))
+    if not math.isfinite(total) and not np.isfinite(arr).all():
         raise CalcInputError(name, arr, "must contain only finite numbers")
     return arr
 
