@@ -223,4 +223,7 @@ def load_demo() -> dict:
                 defaults={"peak_temperature_k": peak_c + C},
             )
     flush_pending()
+    from hazards.review.demo import load_review_demo  # the review lives in its own app
+
+    load_review_demo(password)
     return {"password": password, "generated": generated, "users": ROLES}

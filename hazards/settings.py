@@ -50,6 +50,7 @@ INSTALLED_APPS = [
     "pghistory",
     "pghistory.admin",
     "hazards",
+    "hazards.review",
     "hazards.integration",
 ]
 

@@ -8,6 +8,7 @@ from django.db.models import Prefetch
 from django.http import JsonResponse
 from django.shortcuts import render
 
+from hazards.access import visible
 from hazards.models import IndicatorSnapshot, Process, ReactionStep
 
 
@@ -25,6 +26,7 @@ def home(request):
             ),
         )
     )
+    processes = visible(request.user, processes)
     return render(request, "hazards/home.html", {"processes": processes})
 
 

@@ -1,0 +1,252 @@
+"""REST resources of the review: revisions and their transitions, signatures, findings,
+roles, and the history and differences people read. Every queryset goes through
+`hazards.access.visible`; every write goes through one service, which checks the role."""
+
+from __future__ import annotations
+
+from django.apps import apps
+from django.shortcuts import get_object_or_404
+from drf_spectacular.utils import OpenApiParameter, extend_schema
+from rest_framework import mixins, permissions, status, viewsets
+from rest_framework.decorators import action
+from rest_framework.exceptions import APIException, NotFound, ValidationError
+from rest_framework.response import Response
+from rest_framework.views import APIView
+
+from hazards.access import PROCESS_PATHS, REFERENCE_MODELS, change_reason, visible
+from hazards.models import Process
+from hazards.review import errors as E
+from hazards.review import selectors
+from hazards.review import serializers as s
+from hazards.review.models import Finding, ProcessRevision, ProcessRole, Signature
+from hazards.review.services import findings as finding_services
+from hazards.review.services import revisions as rev
+from hazards.review.services import roles as role_services
+
+CAUTION = (" The review records a qualified assessment; the software supports it and does "
+           "not replace it. Local codes and company standards prevail.")
+
+
+class ReviewErrors:
+    """Map refused workflow steps onto API errors with the service's message."""
+
+    permission_classes = [permissions.IsAuthenticated]
+
+    def handle_exception(self, exc):
+        if isinstance(exc, E.ReviewError):
+            mapped = APIException(exc.message)
+            mapped.status_code = exc.status
+            exc = mapped
+        return super().handle_exception(exc)
+
+
+def _visible_process(user, pk) -> Process:
+    return get_object_or_404(visible(user, Process.objects.all()), pk=pk)
+
+
+class RevisionViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveModelMixin,
+                      viewsets.GenericViewSet):
+    """Revisions of processes under review. Signing actions take the signer's password."""
+
+    serializer_class = s.RevisionSerializer
+    filterset_fields = ["process", "state"]
+    ordering_fields = ["process", "number", "id"]
+
+    def get_queryset(self):
+        qs = ProcessRevision.objects.prefetch_related("signatures__signer",
+                                                      "transitions__actor").order_by("id")
+        return visible(self.request.user, qs)
+
+    def get_serializer_class(self):
+        return s.RevisionDetailSerializer if self.action == "retrieve" else s.RevisionSerializer
+
+    def list(self, request, *args, **kwargs):
+        pid = request.query_params.get("process")
+        if pid and pid.isdigit() and visible(request.user, Process.objects.filter(pk=pid)).exists():
+            rev.revisions_reconcile(process=Process(pk=int(pid)))
+        return super().list(request, *args, **kwargs)
+
+    def retrieve(self, request, *args, **kwargs):
+        revision = self.get_object()
+        rev.revisions_reconcile(process=Process(pk=revision.process_id))
+        return Response(s.RevisionDetailSerializer(self.get_object()).data)
+
+    @extend_schema(request=s.OpenRevisionSerializer, responses={201: s.RevisionSerializer},
+                   summary="Open the next draft revision of a process (authors).")
+    def create(self, request, *args, **kwargs):
+        body = s.OpenRevisionSerializer(data=request.data)
+        body.is_valid(raise_exception=True)
+        process = _visible_process(request.user, body.validated_data["process"].pk)
+        revision = rev.revision_open(process=process, user=request.user,
+                                     reason=body.validated_data["reason"])
+        return Response(s.RevisionSerializer(revision).data, status=status.HTTP_201_CREATED)
+
+    def _sign(self, request, meaning):
+        body_class = s.SignWithMeaningSerializer if meaning is None else s.SignSerializer
+        body = body_class(data=request.data)
+        body.is_valid(raise_exception=True)
+        revision = self.get_object()
+        signature = rev.revision_sign(
+            revision=revision, user=request.user, password=body.validated_data.get("password"),
+            meaning=meaning or body.validated_data["meaning"], request=request,
+            reason=body.validated_data["reason"],
+        )
+        return Response(s.SignatureSerializer(signature).data, status=status.HTTP_201_CREATED)
+
+    @extend_schema(request=s.SignSerializer, responses={201: s.SignatureSerializer},
+                   summary="The author signs the draft (authored) and lodges it." + CAUTION)
+    @action(detail=True, methods=["post"])
+    def submit(self, request, pk=None):
+        return self._sign(request, "authored")
+
+    @extend_schema(request=s.SignSerializer, responses={201: s.SignatureSerializer},
+                   summary="A reviewer signs a lodged revision (reviewed).")
+    @action(detail=True, methods=["post"])
+    def review(self, request, pk=None):
+        return self._sign(request, "reviewed")
+
+    @extend_schema(request=s.SignSerializer, responses={201: s.SignatureSerializer},
+                   summary="An approver endorses a checked revision (approved).")
+    @action(detail=True, methods=["post"])
+    def approve(self, request, pk=None):
+        return self._sign(request, "approved")
+
+    @extend_schema(request=s.SignWithMeaningSerializer, responses={201: s.SignatureSerializer},
+                   summary="Sign with an explicit meaning (authored, reviewed or approved).")
+    @action(detail=True, methods=["post"])
+    def sign(self, request, pk=None):
+        return self._sign(request, None)
+
+    @extend_schema(request=s.SendBackSerializer, responses={200: s.RevisionSerializer},
+                   summary="Send a lodged or checked revision back; returns the new draft.")
+    @action(detail=True, methods=["post"], url_path="send-back")
+    def send_back(self, request, pk=None):
+        body = s.SendBackSerializer(data=request.data)
+        body.is_valid(raise_exception=True)
+        draft = rev.revision_send_back(revision=self.get_object(), user=request.user,
+                                       reason=body.validated_data["reason"])
+        return Response(s.RevisionSerializer(draft).data)
+
+    @extend_schema(parameters=[s.DiffQuerySerializer], responses=s.RevisionDiffSerializer,
+                   summary="What changed between this revision and another of its process.")
+    @action(detail=True, methods=["get"])
+    def diff(self, request, pk=None):
+        query = s.DiffQuerySerializer(data=request.query_params)
+        query.is_valid(raise_exception=True)
+        revision = self.get_object()
+        other = self.get_queryset().filter(pk=query.validated_data["against"],
+                                           process_id=revision.process_id).first()
+        if other is None:
+            raise NotFound("No such revision of this process.")
+        older, newer = sorted([other, revision], key=lambda r: r.number)
+        return Response(selectors.revision_diff(older, newer))
+
+    @extend_schema(responses=s.HistoryRowSerializer(many=True))
+    @action(detail=True, methods=["get"])
+    def history(self, request, pk=None):
+        return Response(selectors.record_history(self.get_object()))
+
+
+class SignatureViewSet(ReviewErrors, viewsets.ReadOnlyModelViewSet):
+    """Signatures, as signed: printed name, UTC time from the database, meaning, hash, seal."""
+
+    serializer_class = s.SignatureSerializer
+    filterset_fields = ["revision", "meaning"]
+
+    def get_queryset(self):
+        return visible(self.request.user,
+                       Signature.objects.select_related("revision", "signer").order_by("id"))
+
+
+class FindingViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveModelMixin,
+                     mixins.CreateModelMixin, mixins.UpdateModelMixin, viewsets.GenericViewSet):
+    """Findings with an owner, a due date, a status and a kind; changes need a reason."""
+
+    filterset_fields = ["process", "revision", "status", "kind", "owner"]
+
+    def get_queryset(self):
+        return visible(self.request.user, Finding.objects.select_related("owner", "raised_by"))
+
+    def get_serializer_class(self):
+        return s.FindingUpdateSerializer if self.action in ("update", "partial_update") \
+            else s.FindingSerializer
+
+    def perform_create(self, serializer):
+        data = dict(serializer.validated_data)
+        process = _visible_process(self.request.user, data.pop("process").pk)
+        serializer.instance = finding_services.finding_raise(
+            process=process, user=self.request.user, reason=data.pop("reason", ""), **data
+        )
+
+    def perform_update(self, serializer):
+        data = dict(serializer.validated_data)
+        serializer.instance = finding_services.finding_update(
+            finding=serializer.instance, user=self.request.user, reason=data.pop("reason"),
+            **data,
+        )
+
+
+class ProcessRoleViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveModelMixin,
+                         mixins.CreateModelMixin, mixins.DestroyModelMixin,
+                         viewsets.GenericViewSet):
+    """Who holds which role on which process. Administrators grant and revoke, with a reason."""
+
+    serializer_class = s.ProcessRoleSerializer
+    filterset_fields = ["process", "user", "role"]
+
+    def get_queryset(self):
+        return visible(self.request.user, ProcessRole.objects.select_related("user"))
+
+    def perform_create(self, serializer):
+        data = serializer.validated_data
+        serializer.instance = role_services.role_grant(
+            process=data["process"], user=data["user"], role=data["role"],
+            granted_by=self.request.user, reason=data["reason"],
+        )
+
+    def perform_destroy(self, instance):
+        reason = change_reason(self.request)
+        if not reason:
+            raise ValidationError({"reason": [E.REASON_REQUIRED]})
+        role_services.role_revoke(grant=instance, revoked_by=self.request.user, reason=reason)
+
+
+class ProcessHistoryView(ReviewErrors, APIView):
+    """Every change to a process and its records: who, when, which field, from, to, why."""
+
+    @extend_schema(responses=s.HistoryRowSerializer(many=True))
+    def get(self, request, pk):
+        return Response(selectors.process_history(_visible_process(request.user, pk)))
+
+
+class ProcessDiffView(ReviewErrors, APIView):
+    """The difference between two revisions (by number) of a process."""
+
+    @extend_schema(
+        parameters=[OpenApiParameter("from", int, required=True),
+                    OpenApiParameter("to", int, required=True)],
+        responses=s.RevisionDiffSerializer,
+    )
+    def get(self, request, pk):
+        process = _visible_process(request.user, pk)
+        try:
+            a, b = int(request.query_params["from"]), int(request.query_params["to"])
+        except (KeyError, ValueError):
+            raise ValidationError({"from": ["Give two revision numbers: ?from=1&to=2."]}) from None
+        revisions = {r.number: r for r in ProcessRevision.objects.filter(process=process,
+                                                                        number__in=[a, b])}
+        if a not in revisions or b not in revisions:
+            raise NotFound("No such revision of this process.")
+        return Response(selectors.revision_diff(revisions[a], revisions[b]))
+
+
+class RecordHistoryView(ReviewErrors, APIView):
+    """The audit history of one record, e.g. /history/hazards.reactionstep/12/."""
+
+    @extend_schema(responses=s.HistoryRowSerializer(many=True))
+    def get(self, request, label, pk):
+        if label not in PROCESS_PATHS and label not in REFERENCE_MODELS:
+            raise NotFound("No history is kept for this kind of record.")
+        model = apps.get_model(label)
+        obj = get_object_or_404(visible(request.user, model._base_manager.all()), pk=pk)
+        return Response(selectors.record_history(obj))

@@ -1,0 +1,253 @@
+"""The hash chain over every audit event, and the checks `manage.py verify` reports.
+
+A trigger on every pghistory event table appends one `ChainLink` per new event:
+hash = sha256(prev_hash || payload_sha256), payload_sha256 = sha256(table ":" row JSON).
+Appends take `pg_advisory_xact_lock(CHAIN_LOCK_KEY)`, so concurrent writers cannot fork the
+chain. The trigger function fixes the time zone and float format it renders rows in, so the
+verifier renders each row identically whatever session wrote it.
+
+The chain proves tampering only if its head is anchored outside the database's reach:
+`head_hash()` is printed by `verify` and on every dossier.
+"""
+
+from __future__ import annotations
+
+import hashlib
+from dataclasses import dataclass
+
+from django.apps import apps
+from django.db import connection, transaction
+
+CHAIN_LOCK_KEY = 7_345_012_026
+GENESIS = "0" * 64
+TRIGGER_NAME = "review_chain_link"
+
+FUNCTIONS_SQL = f"""
+CREATE OR REPLACE FUNCTION review_payload_digest(tbl text, payload json) RETURNS text
+LANGUAGE sql IMMUTABLE AS $$
+    SELECT encode(sha256(convert_to(tbl || ':' || payload::text, 'UTF8')), 'hex')
+$$;
+
+CREATE OR REPLACE FUNCTION review_chain_append() RETURNS trigger
+LANGUAGE plpgsql SET timezone = 'UTC' SET extra_float_digits = 1 AS $$
+DECLARE
+    prev text;
+    payload text;
+BEGIN
+    PERFORM pg_advisory_xact_lock({CHAIN_LOCK_KEY});
+    SELECT hash INTO prev FROM review_chainlink ORDER BY seq DESC LIMIT 1;
+    prev := coalesce(prev, repeat('0', 64));
+    payload := review_payload_digest(TG_TABLE_NAME, row_to_json(NEW));
+    INSERT INTO review_chainlink (event_table, event_id, payload_sha256, prev_hash, hash,
+                                  linked_at)
+    VALUES (TG_TABLE_NAME, NEW.pgh_id, payload, prev,
+            encode(sha256(convert_to(prev || payload, 'UTF8')), 'hex'), clock_timestamp());
+    RETURN NULL;
+END
+$$;
+"""
+DROP_FUNCTIONS_SQL = """
+DROP FUNCTION IF EXISTS review_chain_append() CASCADE;
+DROP FUNCTION IF EXISTS review_payload_digest(text, json);
+"""
+
+
+def link_hash(prev_hash: str, payload_sha256: str) -> str:
+    return hashlib.sha256((prev_hash + payload_sha256).encode("ascii")).hexdigest()
+
+
+def event_models() -> list:
+    """Every concrete pghistory event model (one table each)."""
+    from pghistory.models import Event
+
+    return [
+        m for m in apps.get_models()
+        if issubclass(m, Event) and not m._meta.abstract and not m._meta.proxy
+        and m._meta.managed
+    ]
+
+
+def _existing_tables(cursor, tables: list[str]) -> list[str]:
+    cursor.execute("SELECT relname FROM pg_class WHERE relkind = 'r' AND relname = ANY(%s)",
+                   [tables])
+    found = {row[0] for row in cursor.fetchall()}
+    return [t for t in tables if t in found]
+
+
+def install_chain_triggers(using: str = "default") -> list[str]:
+    """(Re)install the chain trigger on every event table; returns the tables covered."""
+    from django.db import connections
+
+    with connections[using].cursor() as cursor:
+        cursor.execute("SELECT to_regproc('review_chain_append') IS NOT NULL")
+        if not cursor.fetchone()[0]:
+            return []
+        tables = _existing_tables(cursor, [m._meta.db_table for m in event_models()])
+        for table in tables:
+            cursor.execute(
+                f'CREATE OR REPLACE TRIGGER {TRIGGER_NAME} AFTER INSERT ON "{table}" '
+                "FOR EACH ROW EXECUTE FUNCTION review_chain_append()"
+            )
+    return tables
+
+
+def install_chain_triggers_after_migrate(sender, using="default", **kwargs) -> None:
+    install_chain_triggers(using=using)
+
+
+def adopt_unlinked_events() -> int:
+    """Link the events that existed before the chain did (run once, by the migration)."""
+    count = 0
+    with transaction.atomic(), connection.cursor() as cursor:
+        cursor.execute("SELECT pg_advisory_xact_lock(%s)", [CHAIN_LOCK_KEY])
+        cursor.execute("SET LOCAL timezone = 'UTC'; SET LOCAL extra_float_digits = 1")
+        for table in _existing_tables(cursor, [m._meta.db_table for m in event_models()]):
+            cursor.execute(
+                f'SELECT pgh_id, review_payload_digest(%s, row_to_json(e)) FROM "{table}" e '
+                "WHERE NOT EXISTS (SELECT 1 FROM review_chainlink l "
+                "WHERE l.event_table = %s AND l.event_id = e.pgh_id) ORDER BY pgh_id",
+                [table, table],
+            )
+            for pgh_id, payload in cursor.fetchall():
+                cursor.execute("SELECT hash FROM review_chainlink ORDER BY seq DESC LIMIT 1")
+                row = cursor.fetchone()
+                prev = row[0] if row else GENESIS
+                cursor.execute(
+                    "INSERT INTO review_chainlink (event_table, event_id, payload_sha256, "
+                    "prev_hash, hash, linked_at) VALUES (%s, %s, %s, %s, %s, clock_timestamp())",
+                    [table, pgh_id, payload, prev, link_hash(prev, payload)],
+                )
+                count += 1
+    return count
+
+
+def head_hash() -> str:
+    """The hash of the newest chain link (hex); the genesis value when nothing is linked."""
+    from hazards.review.models import ChainLink
+
+    return ChainLink.objects.order_by("-seq").values_list("hash", flat=True).first() or GENESIS
+
+
+@dataclass(frozen=True)
+class Problem:
+    kind: str
+    message: str
+
+    def __str__(self) -> str:
+        return f"{self.kind}: {self.message}"
+
+
+def verify_chain() -> list[Problem]:
+    from hazards.review.models import ChainLink
+
+    problems: list[Problem] = []
+    digests: dict[str, dict[int, str]] = {}
+    with transaction.atomic(), connection.cursor() as cursor:
+        cursor.execute("SET LOCAL timezone = 'UTC'; SET LOCAL extra_float_digits = 1")
+        tables = _existing_tables(cursor, [m._meta.db_table for m in event_models()])
+        for table in tables:
+            cursor.execute(
+                f'SELECT pgh_id, review_payload_digest(%s, row_to_json(e)) FROM "{table}" e',
+                [table],
+            )
+            digests[table] = dict(cursor.fetchall())
+        cursor.execute(
+            "SELECT c.relname FROM pg_trigger t JOIN pg_class c ON c.oid = t.tgrelid "
+            "WHERE t.tgname = %s AND t.tgenabled <> 'D'", [TRIGGER_NAME]
+        )
+        armed = {row[0] for row in cursor.fetchall()}
+    for table in tables:
+        if table not in armed:
+            problems.append(Problem("chain", f"table {table} has no enabled chain trigger"))
+    prev = GENESIS
+    linked: set[tuple[str, int]] = set()
+    for link in ChainLink.objects.order_by("seq").iterator():
+        where = f"link {link.seq} ({link.event_table} event {link.event_id})"
+        if link.prev_hash != prev:
+            problems.append(Problem("chain", f"{where} does not follow link {link.seq - 1}"))
+        if link.hash != link_hash(link.prev_hash, link.payload_sha256):
+            problems.append(Problem("chain", f"{where} has a wrong hash"))
+        current = digests.get(link.event_table, {}).get(link.event_id)
+        if current is None:
+            problems.append(Problem("chain", f"{where}: the event row is missing"))
+        elif current != link.payload_sha256:
+            problems.append(Problem("chain", f"{where}: the event row was altered"))
+        linked.add((link.event_table, link.event_id))
+        prev = link.hash
+    for table, rows in digests.items():
+        for pgh_id in sorted(set(rows) - {pk for t, pk in linked if t == table}):
+            problems.append(Problem("chain", f"{table} event {pgh_id} is not in the chain"))
+    return problems
+
+
+def verify_signatures() -> list[Problem]:
+    from hazards.review.content import content_sha256
+    from hazards.review.models import Signature
+    from hazards.review.signing import seal_verifies
+
+    problems = []
+    for sig in Signature.objects.select_related("revision", "signer").order_by("id"):
+        rev = sig.revision
+        where = (f"signature {sig.pk} ({sig.meaning} by {sig.printed_name}) of process "
+                 f"{rev.process_id} revision {rev.number}")
+        if sig.content_sha256 != rev.content_sha256:
+            problems.append(Problem("signature", f"{where} is bound to other content"))
+        if content_sha256(rev.content) != rev.content_sha256:
+            problems.append(Problem("signature", f"{where}: the revision content no longer "
+                                                 "hashes to what was signed"))
+        if not seal_verifies(sig):
+            problems.append(Problem("seal", f"{where}: the seal does not verify"))
+    return problems
+
+
+def _columns(cursor, table: str) -> list[str]:
+    cursor.execute(
+        "SELECT attname FROM pg_attribute WHERE attrelid = %s::regclass AND attnum > 0 "
+        "AND NOT attisdropped ORDER BY attnum", [f'"{table}"']
+    )
+    return [row[0] for row in cursor.fetchall()]
+
+
+def verify_records() -> list[Problem]:
+    """Records whose current content differs from their last audit event."""
+    problems = []
+    with connection.cursor() as cursor:
+        for event_model in event_models():
+            tracked = event_model.pgh_tracked_model
+            if tracked is None or not any(f.name == "pgh_obj" for f in event_model._meta.fields):
+                continue
+            ev, obj = event_model._meta.db_table, tracked._meta.db_table
+            pk = tracked._meta.pk.column
+            obj_cols = set(_columns(cursor, obj))
+            cols = [c for c in _columns(cursor, ev) if not c.startswith("pgh_") and c in obj_cols]
+            if not cols:
+                continue
+            row_o = ", ".join(f'o."{c}"' for c in cols)
+            row_e = ", ".join(f'e."{c}"' for c in cols)
+            cursor.execute(
+                f'SELECT o."{pk}", e.pgh_id FROM "{obj}" o LEFT JOIN LATERAL ('
+                f'SELECT * FROM "{ev}" x WHERE x.pgh_obj_id = o."{pk}" '
+                f"ORDER BY x.pgh_id DESC LIMIT 1) e ON TRUE "
+                f"WHERE e.pgh_id IS NULL OR e.pgh_label = 'delete' "
+                f"OR ROW({row_o}) IS DISTINCT FROM ROW({row_e}) ORDER BY 1"
+            )
+            for obj_pk, pgh_id in cursor.fetchall():
+                what = "has no audit event" if pgh_id is None else (
+                    f"differs from its last audit event {pgh_id}")
+                problems.append(Problem(
+                    "record", f"{tracked._meta.label} {obj_pk} {what} (a change that "
+                              "bypassed the trail)"))
+            cursor.execute(
+                f'SELECT l.pgh_obj_id FROM (SELECT DISTINCT ON (pgh_obj_id) pgh_obj_id, pgh_label '
+                f'FROM "{ev}" ORDER BY pgh_obj_id, pgh_id DESC) l '
+                f"WHERE l.pgh_label <> 'delete' AND NOT EXISTS "
+                f'(SELECT 1 FROM "{obj}" o WHERE o."{pk}" = l.pgh_obj_id) ORDER BY 1'
+            )
+            for (obj_pk,) in cursor.fetchall():
+                problems.append(Problem(
+                    "record", f"{tracked._meta.label} {obj_pk} was deleted without an audit event"))
+    return problems
+
+
+def verify_all() -> list[Problem]:
+    return [*verify_chain(), *verify_signatures(), *verify_records()]

@@ -1,0 +1,67 @@
+"""Errors of the review workflow; their messages are constants that tests assert on."""
+
+from __future__ import annotations
+
+# Permission
+NOT_AN_AUTHOR = "Only an author of this process can do this."
+NOT_A_REVIEWER = "Only a reviewer of this process can check a lodged revision."
+NOT_AN_APPROVER = "Only an approver of this process can endorse a checked revision."
+CANNOT_SEND_BACK = "Only a reviewer (lodged) or an approver (lodged or checked) can send a revision back."
+CANNOT_RAISE_FINDING = "Only a reviewer or an approver of this process can record findings."
+CANNOT_CHANGE_FINDING = "Only a reviewer or approver of the process, or the finding's owner, can change it."
+OWNER_HAS_NO_ROLE = "The owner of a finding must hold a role on the process."
+ONLY_ADMINISTRATORS = "Only administrators manage roles."
+NO_SELF_GRANT = "Administrators cannot grant roles to themselves."
+TOKEN_CANNOT_SIGN = "Requests authenticated by an API token can never sign; sign in with a session."
+SERVICE_ACCOUNT_CANNOT_SIGN = "Service accounts can never sign."
+SAME_PERSON = "The author, reviewer and approver of one revision must be three different people."
+
+# Signing
+PASSWORD_REQUIRED = "Re-enter your password to sign."
+WRONG_PASSWORD = "The password is not correct; nothing was signed."
+SIGNING_LOCKED = "Too many wrong passwords; signing is locked for 15 minutes."
+UNKNOWN_MEANING = "The meaning of a signature is authored, reviewed or approved."
+
+# State
+NOT_DRAFTING = "Only a revision being drafted can be lodged."
+NOT_LODGED = "Only a lodged revision can be checked."
+NOT_CHECKED = "Only a checked revision can be endorsed."
+NOT_UNDER_REVIEW = "Only a lodged or checked revision can be sent back."
+REVISION_IN_PROGRESS = "The process already has a revision in progress."
+NO_STEPS = "A revision needs at least one reaction step with current indicators."
+STALE = "The process changed after this revision was lodged; it has been replaced by a new draft."
+OPEN_BLOCKING_FINDINGS = "Blocking findings are still open; close them before endorsement."
+REASON_REQUIRED = "A reason is required."
+FINDING_FROZEN = "A resolved or withdrawn finding is not changed again."
+
+
+class ReviewError(Exception):
+    """A refused workflow step; `status` is the HTTP status the API answers with."""
+
+    status = 409
+
+    def __init__(self, message: str, *, status: int | None = None):
+        super().__init__(message)
+        self.message = message
+        if status is not None:
+            self.status = status
+
+
+class NotPermitted(ReviewError):
+    status = 403
+
+
+class SignatureRefused(ReviewError):
+    status = 403
+
+
+class Locked(ReviewError):
+    status = 429
+
+
+class TransitionRefused(ReviewError):
+    status = 409
+
+
+class Invalid(ReviewError):
+    status = 400

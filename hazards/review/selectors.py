@@ -1,0 +1,152 @@
+"""Reads for people: who changed what from which value to which, when and why; and the
+difference between two revisions of a process."""
+
+from __future__ import annotations
+
+from django.contrib.auth import get_user_model
+from pghistory.models import Context
+
+from hazards.review.audit import event_models
+
+MISSING = object()
+
+
+def event_model_for(model):
+    for event_model in event_models():
+        if event_model.pgh_tracked_model is model:
+            return event_model
+    return None
+
+
+def _event_fields(event_model) -> list[str]:
+    return [f.attname for f in event_model._meta.concrete_fields
+            if not f.attname.startswith("pgh_")]
+
+
+def _rows(event_model, **filters) -> list[dict]:
+    fields = _event_fields(event_model)
+    events = list(
+        event_model.objects.filter(**filters)
+        .order_by("pgh_id")
+        .values("pgh_id", "pgh_created_at", "pgh_label", "pgh_obj_id", "pgh_context_id", *fields)
+    )
+    previous: dict = {}
+    rows = []
+    label = event_model.pgh_tracked_model._meta.label
+    for event in events:
+        data = {f: event[f] for f in fields}
+        before = previous.get(event["pgh_obj_id"])
+        if event["pgh_label"] == "delete":
+            changes = {f: {"from": v, "to": None} for f, v in data.items()}
+        elif before is None:
+            changes = {f: {"from": None, "to": v} for f, v in data.items() if v not in (None, "")}
+        else:
+            changes = {f: {"from": before[f], "to": v} for f, v in data.items()
+                       if before.get(f, MISSING) != v}
+        previous[event["pgh_obj_id"]] = data
+        rows.append({
+            "event_id": f"{event_model._meta.label}:{event['pgh_id']}",
+            "at": event["pgh_created_at"],
+            "model": label,
+            "object_id": event["pgh_obj_id"],
+            "action": event["pgh_label"],
+            "context_id": event["pgh_context_id"],
+            "changes": changes,
+        })
+    return rows
+
+
+def _with_context(rows: list[dict]) -> list[dict]:
+    ids = {r["context_id"] for r in rows if r["context_id"]}
+    metadata = dict(Context.objects.filter(id__in=ids).values_list("id", "metadata"))
+    users = {m.get("user") for m in metadata.values() if m.get("user")}
+    names = dict(get_user_model().objects.filter(pk__in=users).values_list("pk", "username"))
+    for row in rows:
+        meta = metadata.get(row.pop("context_id"), {}) or {}
+        row["user"] = names.get(meta.get("user"))
+        row["url"] = meta.get("url")
+        row["reason"] = meta.get("reason", "")
+    rows.sort(key=lambda r: (r["at"], r["event_id"]))
+    return rows
+
+
+def record_history(obj) -> list[dict]:
+    """Every audit event of one record, oldest first, with its changes and context."""
+    event_model = event_model_for(type(obj))
+    if event_model is None:
+        return []
+    return _with_context(_rows(event_model, pgh_obj_id=obj.pk))
+
+
+def _ids(rows) -> set:
+    return {r["object_id"] for r in rows}
+
+
+def process_history(process) -> list[dict]:
+    """The audit events of a process and of everything under it, oldest first."""
+    from hazards import models as m
+    from hazards.review import models as r
+
+    def rows_of(model, **filters):
+        event_model = event_model_for(model)
+        return _rows(event_model, **filters) if event_model else []
+
+    rows = rows_of(m.Process, pgh_obj_id=process.pk)
+    steps = rows_of(m.ReactionStep, process_id=process.pk)
+    runs = rows_of(m.CalorimetryRun, step_id__in=_ids(steps))
+    tests = rows_of(m.DecompositionTest, step_id__in=_ids(steps))
+    revisions = rows_of(r.ProcessRevision, process_id=process.pk)
+    rows += steps + runs + tests
+    rows += rows_of(m.DecompositionPeak, test_id__in=_ids(tests))
+    rows += rows_of(m.CalorimetrySeries, run_id__in=_ids(runs))
+    rows += revisions
+    rows += rows_of(r.Signature, revision_id__in=_ids(revisions))
+    rows += rows_of(r.Transition, revision_id__in=_ids(revisions))
+    rows += rows_of(r.Finding, process_id=process.pk)
+    rows += rows_of(r.ProcessRole, process_id=process.pk)
+    return _with_context(rows)
+
+
+def _flatten(value, path: str, out: dict) -> None:
+    if isinstance(value, dict):
+        for key in sorted(value):
+            _flatten(value[key], f"{path}.{key}" if path else key, out)
+    elif isinstance(value, list) and value and all(
+        isinstance(v, dict) and "id" in v for v in value
+    ):
+        for item in value:
+            _flatten(item, f"{path}[id={item['id']}]", out)
+    else:
+        out[path] = value
+
+
+def content_diff(old: dict, new: dict) -> list[dict]:
+    """Every leaf that differs between two canonical contents, by path."""
+    a, b = {}, {}
+    _flatten(old, "", a)
+    _flatten(new, "", b)
+    rows = []
+    for path in sorted(set(a) | set(b)):
+        before, after = a.get(path, MISSING), b.get(path, MISSING)
+        if before == after:
+            continue
+        change = "added" if before is MISSING else "removed" if after is MISSING else "changed"
+        rows.append({
+            "path": path,
+            "change": change,
+            "from": None if before is MISSING else before,
+            "to": None if after is MISSING else after,
+        })
+    return rows
+
+
+def revision_diff(older, newer) -> dict:
+    """The difference between the contents of two revisions of one process."""
+    return {
+        "process": older.process_id,
+        "from_revision": older.number,
+        "to_revision": newer.number,
+        "from_sha256": older.content_sha256,
+        "to_sha256": newer.content_sha256,
+        "changes": content_diff(older.content, newer.content),
+    }

@@ -1,0 +1,159 @@
+"""Serializers of the review resources. Signing fields are write-only; everything the
+database decides (states, times, hashes, seals, signers) is read-only."""
+
+from __future__ import annotations
+
+from django.contrib.auth import get_user_model
+from rest_framework import serializers
+
+from hazards.models import Process
+from hazards.review.models import (
+    Finding,
+    Meaning,
+    ProcessRevision,
+    ProcessRole,
+    Signature,
+    Transition,
+)
+from hazards.review.signing import iso, seal_verifies
+
+
+class UtcDateTimeField(serializers.DateTimeField):
+    def to_representation(self, value):
+        return iso(value) if value is not None else None
+
+
+class SignatureSerializer(serializers.ModelSerializer):
+    signer = serializers.SlugRelatedField(slug_field="username", read_only=True)
+    signed_at = UtcDateTimeField(read_only=True)
+    meaning_text = serializers.CharField(source="get_meaning_display", read_only=True)
+    seal_verifies = serializers.SerializerMethodField()
+
+    class Meta:
+        model = Signature
+        fields = ["id", "revision", "signer", "printed_name", "meaning", "meaning_text",
+                  "signed_at", "content_sha256", "seal", "seal_verifies"]
+        read_only_fields = fields
+
+    def get_seal_verifies(self, signature) -> bool:
+        return seal_verifies(signature)
+
+
+class TransitionSerializer(serializers.ModelSerializer):
+    actor = serializers.SlugRelatedField(slug_field="username", read_only=True)
+    at = UtcDateTimeField(read_only=True)
+
+    class Meta:
+        model = Transition
+        fields = ["id", "from_state", "to_state", "actor", "reason", "at", "signature"]
+        read_only_fields = fields
+
+
+class RevisionSerializer(serializers.ModelSerializer):
+    signatures = SignatureSerializer(many=True, read_only=True)
+    transitions = TransitionSerializer(many=True, read_only=True)
+    created_at = UtcDateTimeField(read_only=True)
+    created_by = serializers.SlugRelatedField(slug_field="username", read_only=True)
+    state_text = serializers.CharField(source="get_state_display", read_only=True)
+
+    class Meta:
+        model = ProcessRevision
+        fields = ["id", "process", "number", "state", "state_text", "content_sha256",
+                  "created_at", "created_by", "signatures", "transitions"]
+        read_only_fields = fields
+
+
+class RevisionDetailSerializer(RevisionSerializer):
+    class Meta(RevisionSerializer.Meta):
+        fields = [*RevisionSerializer.Meta.fields, "content"]
+        read_only_fields = fields
+
+
+class OpenRevisionSerializer(serializers.Serializer):
+    process = serializers.PrimaryKeyRelatedField(queryset=Process.objects.all())
+    reason = serializers.CharField(required=False, allow_blank=True, default="")
+
+
+class SignSerializer(serializers.Serializer):
+    password = serializers.CharField(write_only=True, required=False, allow_blank=True,
+                                     trim_whitespace=False, style={"input_type": "password"})
+    reason = serializers.CharField(required=False, allow_blank=True, default="")
+
+
+class SignWithMeaningSerializer(SignSerializer):
+    meaning = serializers.ChoiceField(choices=Meaning.choices)
+
+
+class SendBackSerializer(serializers.Serializer):
+    reason = serializers.CharField()
+
+
+class DiffQuerySerializer(serializers.Serializer):
+    against = serializers.IntegerField(help_text="Id of the other revision of the same process.")
+
+
+class FindingSerializer(serializers.ModelSerializer):
+    owner = serializers.SlugRelatedField(slug_field="username",
+                                         queryset=get_user_model().objects.all())
+    raised_by = serializers.SlugRelatedField(slug_field="username", read_only=True)
+    created_at = UtcDateTimeField(read_only=True)
+    reason = serializers.CharField(write_only=True, required=False, allow_blank=True)
+
+    class Meta:
+        model = Finding
+        fields = ["id", "process", "revision", "title", "description", "kind", "owner",
+                  "due_date", "status", "raised_by", "created_at", "reason"]
+        read_only_fields = ["raised_by", "created_at"]
+
+
+class FindingUpdateSerializer(FindingSerializer):
+    reason = serializers.CharField(write_only=True)
+
+    class Meta(FindingSerializer.Meta):
+        read_only_fields = ["process", "revision", "raised_by", "created_at"]
+
+
+class ProcessRoleSerializer(serializers.ModelSerializer):
+    user = serializers.SlugRelatedField(slug_field="username",
+                                        queryset=get_user_model().objects.all())
+    granted_by = serializers.SlugRelatedField(slug_field="username", read_only=True)
+    granted_at = UtcDateTimeField(read_only=True)
+    reason = serializers.CharField(write_only=True)
+
+    class Meta:
+        model = ProcessRole
+        fields = ["id", "process", "user", "role", "granted_by", "granted_at", "reason"]
+        read_only_fields = ["granted_by", "granted_at"]
+
+
+class HistoryRowSerializer(serializers.Serializer):
+    event_id = serializers.CharField()
+    at = serializers.DateTimeField()
+    model = serializers.CharField()
+    object_id = serializers.CharField()
+    action = serializers.CharField()
+    user = serializers.CharField(allow_null=True)
+    url = serializers.CharField(allow_null=True)
+    reason = serializers.CharField(allow_blank=True)
+    changes = serializers.DictField(help_text="field -> {from, to}")
+
+
+class DiffRowSerializer(serializers.Serializer):
+    path = serializers.CharField()
+    change = serializers.ChoiceField(choices=["added", "removed", "changed"])
+
+    def get_fields(self):
+        fields = super().get_fields()
+        # "from" is a Python keyword; values are any JSON.
+        fields["from"] = serializers.JSONField(allow_null=True)
+        fields["to"] = serializers.JSONField(allow_null=True)
+        return fields
+
+
+class RevisionDiffSerializer(serializers.Serializer):
+    process = serializers.IntegerField()
+    from_revision = serializers.IntegerField()
+    to_revision = serializers.IntegerField()
+    from_sha256 = serializers.CharField()
+    to_sha256 = serializers.CharField()
+    changes = DiffRowSerializer(many=True)

@@ -1,0 +1,134 @@
+"""Re-authentication at every signature, lockout after repeated failures, and the seal."""
+
+from __future__ import annotations
+
+import datetime as dt
+import hashlib
+import hmac
+import logging
+
+from django.conf import settings
+from django.contrib.auth import authenticate
+from django.db import connection, transaction
+
+from hazards.access import is_service_account
+from hazards.models import ApiToken
+from hazards.review.errors import (
+    PASSWORD_REQUIRED,
+    SERVICE_ACCOUNT_CANNOT_SIGN,
+    SIGNING_LOCKED,
+    TOKEN_CANNOT_SIGN,
+    WRONG_PASSWORD,
+    Locked,
+    NotPermitted,
+    SignatureRefused,
+)
+from hazards.review.models import SigningLockout
+from hazards.services.indicators import canonical_json
+
+log = logging.getLogger("hazards.review.signing")
+
+MAX_FAILURES = 5
+LOCK_MINUTES = 15
+
+
+def db_clock() -> dt.datetime:
+    """The database's clock, in UTC.
+
+    `clock_timestamp()` rather than `now()`: a signer may have waited for the row lock, and
+    the transaction's start time would then date the signature before the one it follows.
+    """
+    with connection.cursor() as cursor:
+        cursor.execute("SELECT clock_timestamp()")
+        (now,) = cursor.fetchone()
+    return now.astimezone(dt.UTC)
+
+
+def iso(moment: dt.datetime) -> str:
+    return moment.astimezone(dt.UTC).isoformat().replace("+00:00", "Z")
+
+
+def seal_payload(*, revision, signer, printed_name: str, meaning: str, signed_at,
+                 content_sha256: str) -> str:
+    return canonical_json({
+        "revision": revision.pk,
+        "process": revision.process_id,
+        "number": revision.number,
+        "signer": signer.pk,
+        "username": signer.get_username(),
+        "printed_name": printed_name,
+        "meaning": meaning,
+        "signed_at": iso(signed_at),
+        "content_sha256": content_sha256,
+    })
+
+
+def compute_seal(payload: str) -> str:
+    key = settings.SIGNATURE_SEAL_KEY.encode("utf-8")
+    return hmac.new(key, payload.encode("utf-8"), hashlib.sha256).hexdigest()
+
+
+def seal_of(signature) -> str:
+    """The seal a signature row should carry, recomputed from its stored fields."""
+    return compute_seal(
+        seal_payload(
+            revision=signature.revision, signer=signature.signer,
+            printed_name=signature.printed_name, meaning=signature.meaning,
+            signed_at=signature.signed_at, content_sha256=signature.content_sha256,
+        )
+    )
+
+
+def seal_verifies(signature) -> bool:
+    return hmac.compare_digest(seal_of(signature), signature.seal)
+
+
+def printed_name(user) -> str:
+    return (user.get_full_name() or "").strip() or user.get_username()
+
+
+def _locked(user) -> bool:
+    row = SigningLockout.objects.filter(user=user).first()
+    return bool(row and row.locked_until and row.locked_until > db_clock())
+
+
+def _record_failure(user) -> None:
+    # Its own transaction: the signing transaction is rolled back, this must stay.
+    with transaction.atomic():
+        now = db_clock()
+        row, _ = SigningLockout.objects.select_for_update().get_or_create(user=user)
+        row.failures += 1
+        row.last_failure_at = now
+        if row.failures >= MAX_FAILURES:
+            row.locked_until = now + dt.timedelta(minutes=LOCK_MINUTES)
+            row.failures = 0
+            log.warning("signing locked for user %s after %d wrong passwords",
+                        user.pk, MAX_FAILURES)
+        row.save()
+    log.warning("wrong password at signing by user %s", user.pk)
+
+
+def _record_success(user) -> None:
+    SigningLockout.objects.filter(user=user, failures__gt=0).update(failures=0)
+
+
+def reauthenticate(*, user, password: str | None, request) -> None:
+    """Refuse anything but the signer's own password, typed now, through a session.
+
+    Runs before the signing transaction opens, so that a failure is counted even though
+    nothing else of the attempt is kept.
+    """
+    if getattr(request, "auth", None) is not None and isinstance(request.auth, ApiToken):
+        raise NotPermitted(TOKEN_CANNOT_SIGN)
+    if is_service_account(user):
+        raise NotPermitted(SERVICE_ACCOUNT_CANNOT_SIGN)
+    if not password:
+        raise SignatureRefused(PASSWORD_REQUIRED, status=400)
+    if _locked(user):
+        raise Locked(SIGNING_LOCKED)
+    http_request = getattr(request, "_request", request)
+    who = authenticate(request=http_request, username=user.get_username(), password=password)
+    if who is None or who.pk != user.pk:
+        _record_failure(user)
+        raise SignatureRefused(WRONG_PASSWORD)
+    _record_success(user)
