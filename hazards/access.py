@@ -180,6 +180,12 @@ class ProcessRolePermission(permissions.BasePermission):
 
     message = "You have no role on this process that allows this change."
 
+    def describe(self, view, method: str) -> str:
+        if method in permissions.SAFE_METHODS:
+            return "a role on the record's process (any role reads)"
+        return ("the author role on the record's process (reference data: administrators); "
+                "a `reason` (or `X-Change-Reason`) once the process has signed revisions")
+
     def has_permission(self, request, view):
         if request.method in permissions.SAFE_METHODS:
             return True

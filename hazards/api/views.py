@@ -17,7 +17,7 @@ from rest_framework.permissions import AllowAny
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
-from hazards.access import visible
+from hazards.access import ProcessRolePermission, visible
 from hazards.api import exchange_api, filters, series_api
 from hazards.api import serializers as s
 from hazards.api.concurrency import ETagMixin, stale
@@ -67,7 +67,7 @@ class ModelPermissions(permissions.DjangoModelPermissions):
 
 
 class RecordViewSet(IdempotentCreateMixin, ETagMixin, viewsets.ModelViewSet):
-    permission_classes = [permissions.IsAuthenticated, ModelPermissions]
+    permission_classes = [permissions.IsAuthenticated, ModelPermissions, ProcessRolePermission]
     parser_classes = [LimitedJSONParser]
 
     def get_queryset(self):
@@ -188,7 +188,8 @@ class CalorimetryRunViewSet(RecordViewSet):
     @action(detail=True, methods=["get", "post"], url_path="series", filter_backends=[],
             pagination_class=None, parser_classes=[parsers.MultiPartParser],
             permission_classes=[permissions.IsAuthenticated,
-                                                       series_api.SeriesPermission])
+                                                       series_api.SeriesPermission,
+                                                       ProcessRolePermission])
     def series(self, request, pk=None):
         return series_api.series_view(self, request)
 
