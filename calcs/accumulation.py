@@ -17,6 +17,7 @@ The algorithm, step by step:
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from functools import cached_property
 
@@ -127,6 +128,16 @@ def _time_axis(time_s) -> tuple[np.ndarray, np.ndarray]:
     if dt.size and not dt.min() > 0.0:
         require_sorted_increasing("time_s", t)  # raises with the offending entry
     return t, dt
+
+
+def _as_1d(name: str, values) -> np.ndarray:
+    try:
+        arr = np.asarray(values, dtype=float)
+    except (TypeError, ValueError):
+        raise CalcInputError(name, values, "must be a sequence of real numbers") from None
+    if arr.ndim != 1:
+        raise CalcInputError(name, values, "must be one-dimensional")
+    return arr
 
 
 def _cumtrapz(dt: np.ndarray, q: np.ndarray) -> np.ndarray:
@@ -245,14 +256,21 @@ def analyse_accumulation(
     ----------
     METHODS.md §1.2 [DERIVED m(t) form]; Stoessel 2008 ch. 7; HarsBook ch. 5.
     """
-    t, dt = _time_axis(time_s)
-    q = require_finite_array("heat_release_rate_w", heat_release_rate_w)
-    fd = require_finite_array("dosed_fraction", dosed_fraction)
+    # Finiteness is checked on the results (a NaN or inf anywhere makes Q_tot, min or max
+    # non-finite) and only then entry by entry, to spare three passes over long series.
+    t, q, fd = (_as_1d(n, v) for n, v in (("time_s", time_s),
+                                          ("heat_release_rate_w", heat_release_rate_w),
+                                          ("dosed_fraction", dosed_fraction)))
     require_min_length("time_s", t, 2)
     require_same_length(("time_s", "heat_release_rate_w", "dosed_fraction"), t, q, fd)
-    if fd.min() < 0.0:
+    dt = np.diff(t)
+    if not dt.min() > 0.0:
+        require_sorted_increasing("time_s", t)  # raises, naming the offending entry
+    fd_min, fd_max = float(fd.min()), float(fd.max())
+    if not (math.isfinite(fd_min) and math.isfinite(fd_max)):
+        require_finite_array("dosed_fraction", fd)
+    if fd_min < 0.0:
         raise CalcInputError("dosed_fraction", fd, "must not be negative")
-    fd_max = float(fd.max())
     cp = require_positive("specific_heat_capacity_j_per_kg_k", specific_heat_capacity_j_per_kg_k)
     m0 = require_positive("initial_mass_kg", initial_mass_kg)
     mf = require_non_negative("feed_mass_kg", feed_mass_kg)
@@ -274,6 +292,9 @@ def analyse_accumulation(
     warnings: list[str] = []
     heat = _cumtrapz(dt, q)
     q_tot = float(heat[-1])
+    if not math.isfinite(q_tot):
+        require_finite_array("time_s", t)
+        require_finite_array("heat_release_rate_w", q)
     if q_tot <= 0.0:
         raise CalcInputError("heat_release_rate_w", q, "must integrate to a positive heat")
     i_qmax = int(np.argmax(q))
