@@ -3,13 +3,12 @@
 from __future__ import annotations
 
 import pytest
-from django.contrib.auth import get_user_model
-from rest_framework.test import APIClient
 
 PASSWORD = "correct horse battery staple 42"
 
 
 def make_user(username: str, *, superuser: bool = False, perms: tuple[str, ...] = ()):
+    from django.contrib.auth import get_user_model
     from django.contrib.auth.models import Permission
 
     User = get_user_model()
@@ -37,6 +36,8 @@ def outsider(db):
 
 @pytest.fixture
 def api(admin_user):
+    from rest_framework.test import APIClient
+
     client = APIClient()
     client.force_authenticate(admin_user)
     return client
@@ -44,4 +45,6 @@ def api(admin_user):
 
 @pytest.fixture
 def anon_api():
+    from rest_framework.test import APIClient
+
     return APIClient()
