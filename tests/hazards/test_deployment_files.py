@@ -47,3 +47,40 @@ def test_every_service_that_uses_the_database_waits_for_it_to_be_healthy():
         if name == "db":
             continue
         assert service["depends_on"]["db"]["condition"] == "service_healthy", name
+
+
+def test_a_worker_service_renders_dossiers_with_the_web_services_environment():
+    services = _compose()["services"]
+    worker = services["worker"]
+    assert "manage.py db_worker" in worker["command"]
+    assert worker["environment"] == services["web"]["environment"]
+    assert worker["depends_on"]["db"]["condition"] == "service_healthy"
+    assert worker["image"] == services["web"]["image"]
+
+
+def test_the_settings_configure_the_database_task_backend_the_worker_reads():
+    from django.conf import settings
+
+    assert settings.TASKS["default"]["BACKEND"] == "django_tasks_db.DatabaseBackend"
+    assert {"django_tasks", "django_tasks_db", "hazards.dossier"} <= set(settings.INSTALLED_APPS)
+
+
+def test_serve_runs_gunicorn_and_a_worker_and_stops_the_worker_when_gunicorn_exits(tmp_path):
+    import subprocess
+    import sys
+    import time
+
+    from hazards.management.commands.serve import supervise, worker_argv
+
+    assert worker_argv()[2:4] == ["db_worker", "--queue-name"]
+    marker = tmp_path / "worker-pid"
+    fake_worker = [sys.executable, "-c",
+                   f"import os, time; open({str(marker)!r}, 'w').write(str(os.getpid())); "
+                   "time.sleep(60)"]
+    fake_web = [sys.executable, "-c", "import time; time.sleep(1.5); raise SystemExit(3)"]
+    started = time.monotonic()
+    assert supervise(fake_web, fake_worker, grace=5) == 3
+    assert time.monotonic() - started < 10
+    pid = int(marker.read_text())
+    # The worker was terminated and reaped: no such process any more.
+    assert subprocess.run(["kill", "-0", str(pid)], capture_output=True).returncode != 0

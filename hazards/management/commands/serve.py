@@ -4,7 +4,10 @@ from __future__ import annotations
 
 import os
 import shutil
+import signal
+import subprocess
 import sys
+import time
 
 from django.conf import settings
 from django.core.management import call_command
@@ -41,4 +44,51 @@ class Command(BaseCommand):
         argv = [gunicorn, "hazards.wsgi:application", "--bind", bind, "--workers", str(workers),
                 "--timeout", "60", "--graceful-timeout", "20", "--access-logfile", "-"]
         os.environ.setdefault("DJANGO_SETTINGS_MODULE", settings.SETTINGS_MODULE)
-        os.execv(gunicorn, argv)
+        raise SystemExit(supervise(argv, worker_argv()))
+
+
+def worker_argv() -> list[str]:
+    """The background worker that renders dossiers (django_tasks_db's db_worker)."""
+    manage = os.path.join(settings.BASE_DIR, "manage.py")
+    return [sys.executable, manage, "db_worker", "--queue-name", "default", "--interval", "2",
+            "--no-reload"]
+
+
+def supervise(web_argv: list[str], worker: list[str], *, grace: float = 20.0) -> int:
+    """Run gunicorn and one worker; forward SIGINT/SIGTERM/SIGHUP to both; when gunicorn
+    exits, stop the worker (SIGTERM, then SIGKILL after `grace` s) and return its status."""
+    web = subprocess.Popen(web_argv)
+    background = subprocess.Popen(worker)
+    children = (web, background)
+
+    def forward(signum, frame):
+        for child in children:
+            if child.poll() is None:
+                # SIGHUP reloads gunicorn; the worker has no reload, so it is left alone.
+                if signum == signal.SIGHUP and child is background:
+                    continue
+                child.send_signal(signum)
+
+    previous = {sig: signal.signal(sig, forward)
+                for sig in (signal.SIGINT, signal.SIGTERM, signal.SIGHUP)}
+    try:
+        while True:
+            code = web.poll()
+            if code is not None:
+                break
+            if background.poll() is not None:
+                # A worker that died (e.g. the database restarted) is started again.
+                background = subprocess.Popen(worker)
+                children = (web, background)
+            time.sleep(0.5)
+    finally:
+        for sig, handler in previous.items():
+            signal.signal(sig, handler)
+        if background.poll() is None:
+            background.terminate()
+            try:
+                background.wait(timeout=grace)
+            except subprocess.TimeoutExpired:
+                background.kill()
+                background.wait()
+    return code

@@ -1,0 +1,1 @@
+"""Versioned PDF dossiers of process revisions: charts, rendering, sealing and verification."""

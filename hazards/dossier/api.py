@@ -1,0 +1,151 @@
+"""REST endpoints of dossiers: list, detail, PDF download, request, retry, verify."""
+
+from __future__ import annotations
+
+from django.http import HttpResponse
+from django.shortcuts import get_object_or_404, render
+from django.urls import path
+from drf_spectacular.utils import extend_schema
+from rest_framework import permissions, serializers, status, viewsets
+from rest_framework.decorators import action
+from rest_framework.parsers import FormParser, MultiPartParser
+from rest_framework.response import Response
+from rest_framework.routers import SimpleRouter
+from rest_framework.views import APIView
+
+from hazards.access import visible
+from hazards.dossier.models import Dossier, DossierStatus
+from hazards.dossier.seal import verify_pdf
+from hazards.dossier.services import NOT_RETRYABLE, dossier_request, dossier_retry
+from hazards.models import Process
+
+
+class DossierSerializer(serializers.ModelSerializer):
+    revision = serializers.SerializerMethodField()
+    pdf_url = serializers.SerializerMethodField()
+
+    class Meta:
+        model = Dossier
+        fields = ["id", "process", "revision", "version", "status", "content_sha256",
+                  "context_sha256", "sha256", "size_bytes", "created_at", "started_at",
+                  "finished_at", "attempts", "error", "reason", "pdf_url"]
+        read_only_fields = fields
+
+    def get_revision(self, obj) -> dict | None:
+        return obj.content.get("context", {}).get("revision")
+
+    def get_pdf_url(self, obj) -> str | None:
+        if obj.status != DossierStatus.DONE:
+            return None
+        return f"/api/v1/dossiers/{obj.pk}/pdf/"
+
+
+class DossierRequestSerializer(serializers.Serializer):
+    reissue = serializers.BooleanField(default=False)
+    reason = serializers.CharField(max_length=200, required=False, allow_blank=True, default="")
+
+
+class VerifyUploadSerializer(serializers.Serializer):
+    file = serializers.FileField()
+
+
+def _visible_dossiers(user):
+    processes = visible(user, Process.objects.all())
+    return Dossier.objects.filter(process__in=processes).defer("pdf", "content")
+
+
+class DossierViewSet(viewsets.ReadOnlyModelViewSet):
+    serializer_class = DossierSerializer
+    permission_classes = [permissions.IsAuthenticated]
+    filterset_fields = ["process", "status"]
+    ordering_fields = ["created_at", "version", "id"]
+
+    def get_queryset(self):
+        return _visible_dossiers(self.request.user).order_by("-created_at", "-id")
+
+    @extend_schema(responses={(200, "application/pdf"): bytes})
+    @action(detail=True, methods=["get"])
+    def pdf(self, request, pk=None):
+        dossier = get_object_or_404(
+            Dossier.objects.filter(pk__in=self.get_queryset().values("pk")), pk=pk
+        )
+        if dossier.status != DossierStatus.DONE:
+            return Response({"detail": f"The dossier is {dossier.status}.",
+                             "status": dossier.status}, status=status.HTTP_409_CONFLICT)
+        response = HttpResponse(bytes(dossier.pdf), content_type="application/pdf")
+        response["Content-Disposition"] = f'attachment; filename="{dossier.file_name}"'
+        response["ETag"] = f'"{dossier.sha256}"'
+        response["Cache-Control"] = "private, max-age=31536000, immutable"
+        return response
+
+    @extend_schema(request=None, responses=DossierSerializer)
+    @action(detail=True, methods=["post"])
+    def retry(self, request, pk=None):
+        dossier = self.get_object()
+        try:
+            dossier = dossier_retry(dossier=dossier)
+        except ValueError:
+            return Response({"detail": NOT_RETRYABLE}, status=status.HTTP_409_CONFLICT)
+        return Response(DossierSerializer(dossier).data, status=status.HTTP_202_ACCEPTED)
+
+
+class ProcessDossiersView(APIView):
+    """GET: the dossiers of a process; POST: request one of its latest revision."""
+
+    permission_classes = [permissions.IsAuthenticated]
+
+    def _process(self, request, pk):
+        return get_object_or_404(visible(request.user, Process.objects.all()), pk=pk)
+
+    @extend_schema(responses=DossierSerializer(many=True))
+    def get(self, request, pk):
+        process = self._process(request, pk)
+        rows = _visible_dossiers(request.user).filter(process=process).order_by("-version")
+        return Response(DossierSerializer(rows, many=True).data)
+
+    @extend_schema(request=DossierRequestSerializer, responses=DossierSerializer)
+    def post(self, request, pk):
+        process = self._process(request, pk)
+        body = DossierRequestSerializer(data=request.data)
+        body.is_valid(raise_exception=True)
+        dossier, created = dossier_request(process=process, requested_by=request.user,
+                                           reason=body.validated_data["reason"],
+                                           reissue=body.validated_data["reissue"])
+        response = Response(DossierSerializer(dossier).data,
+                            status=status.HTTP_202_ACCEPTED if created else status.HTTP_200_OK)
+        response["Location"] = f"/api/v1/dossiers/{dossier.pk}/"
+        return response
+
+
+class VerifyDossierView(APIView):
+    """Upload a PDF: is it an unaltered dossier of this system, and of which revision?"""
+
+    permission_classes = [permissions.IsAuthenticated]
+    parser_classes = [MultiPartParser, FormParser]
+
+    @extend_schema(request={"multipart/form-data": VerifyUploadSerializer},
+                   responses={200: dict})
+    def post(self, request):
+        body = VerifyUploadSerializer(data=request.data)
+        body.is_valid(raise_exception=True)
+        result = verify_pdf(body.validated_data["file"].read())
+        return Response(result.to_dict())
+
+
+def status_fragment(request, pk):
+    """A small HTML fragment with a dossier's status (for htmx polling on the pages)."""
+    if not request.user.is_authenticated:
+        return HttpResponse(status=403)
+    dossier = get_object_or_404(_visible_dossiers(request.user), pk=pk)
+    return render(request, "dossier/status_fragment.html", {"dossier": dossier})
+
+
+urlpatterns = [
+    path("processes/<int:pk>/dossiers/", ProcessDossiersView.as_view(), name="process-dossiers"),
+    path("dossiers/verify/", VerifyDossierView.as_view(), name="dossier-verify"),
+    path("dossiers/<int:pk>/status.html", status_fragment, name="dossier-status-fragment"),
+]
+
+router = SimpleRouter()
+router.register("dossiers", DossierViewSet, basename="dossier")
+urlpatterns += router.urls

@@ -1,0 +1,360 @@
+"""Charts of one step's cooling-failure assessment, as SVG strings (dossier PDF and step pages).
+
+Each public function takes a step's snapshot data — a dict with the keys of an
+`IndicatorSnapshot` (`values`, `methods`, `parameters`, `inputs`, ...) or the snapshot object
+itself — and returns an SVG document as a string, or None when the chart does not apply to
+the step (for example the accumulation chart of a batch step). Where a chart applies but the
+data to draw it are missing, the SVG says so instead of drawing.
+
+Drawn with matplotlib's Figure API (no pyplot, no global state besides an rc context), text
+kept as text (`svg.fonttype = "none"`) in the shipped DejaVu Sans (family "Exoledger Sans",
+static/fonts/fonts.css), fixed ids and no date, so the same data give the same bytes.
+Lines differ by style and marker as well as by grey level, so a grey-scale print reads.
+"""
+
+from __future__ import annotations
+
+import io
+import math
+
+import matplotlib
+import numpy as np
+from matplotlib.figure import Figure
+
+from calcs.accumulation import analyse_accumulation
+from calcs.constants import DAY, HOUR, T_ZERO_C, R
+from calcs.tmr import tmr_zero_order_at
+
+FONT_FAMILY = "Exoledger Sans"
+WIDTH_IN, HEIGHT_IN = 3.9, 3.5
+_RC = {
+    "svg.fonttype": "none",
+    "svg.hashsalt": "exoledger-dossier",
+    "font.family": "DejaVu Sans",
+    "font.size": 7.5,
+    "axes.linewidth": 0.7,
+    "axes.titlesize": 8.5,
+    "axes.titleweight": "bold",
+    "axes.titlelocation": "left",
+    "legend.fontsize": 6.6,
+    "legend.frameon": False,
+    "legend.framealpha": 0.9,
+    "lines.linewidth": 1.4,
+    "path.simplify": False,
+    "axes.unicode_minus": False,
+}
+INK, MID, LIGHT = "#111111", "#555555", "#8a8a8a"
+
+
+def snapshot_data(snapshot) -> dict:
+    """A snapshot as the plain dict the chart functions read."""
+    if snapshot is None or isinstance(snapshot, dict):
+        return snapshot or {}
+    return {key: getattr(snapshot, key) for key in
+            ("values", "methods", "parameters", "inputs", "warnings", "references")}
+
+
+def _c(kelvin):
+    return None if kelvin is None else kelvin - T_ZERO_C
+
+
+def _figure():
+    fig = Figure(figsize=(WIDTH_IN, HEIGHT_IN))
+    ax = fig.add_axes((0.15, 0.46, 0.62, 0.47))
+    return fig, ax
+
+
+def _legend(ax, handles=None, labels=None):
+    """Below the plot, so it never hides a line."""
+    kwargs = {"loc": "upper left", "bbox_to_anchor": (-0.2, -0.2), "ncol": 1,
+              "handlelength": 2.6, "columnspacing": 1.0, "borderaxespad": 0.0}
+    if handles is not None:
+        return ax.legend(handles, labels, **kwargs)
+    return ax.legend(**kwargs)
+
+
+def _note(fig, text):
+    fig.text(0.02, 0.015, text, fontsize=6.2, color=MID, wrap=True)
+
+
+def _svg(fig) -> str:
+    buf = io.StringIO()
+    fig.savefig(buf, format="svg", metadata={"Date": None, "Creator": "Exoledger"})
+    text = buf.getvalue()
+    # Our own copy of the font first, then whatever the browser has.
+    return text.replace("font-family: 'DejaVu Sans'",
+                        f"font-family: '{FONT_FAMILY}', 'DejaVu Sans', sans-serif")
+
+
+def _level(ax, value_c, label, style, colour=MID):
+    if value_c is None:
+        return
+    ax.axhline(value_c, linestyle=style, color=colour, linewidth=1.0)
+    ax.annotate(f"{label} {value_c:.0f} °C", xy=(1.0, value_c), xycoords=("axes fraction", "data"),
+                xytext=(3, 0), textcoords="offset points", va="center", ha="left", fontsize=6.6,
+                color=INK)
+
+
+def _message(title: str, message: str) -> str:
+    with matplotlib.rc_context(_RC):
+        fig, ax = _figure()
+        ax.set_title(title)
+        ax.set_axis_off()
+        ax.text(0.5, 0.5, message, ha="center", va="center", wrap=True, fontsize=8.5,
+                transform=ax.transAxes)
+        return _svg(fig)
+
+
+def _step(span: float) -> float:
+    for step in (0.1, 0.25, 0.5, 1.0, 2.0, 5.0, 10.0, 24.0):
+        if span / step <= 3:
+            return step
+    return 48.0
+
+
+def _activation_energy(snap: dict) -> float | None:
+    params, inputs = snap.get("parameters") or {}, snap.get("inputs") or {}
+    for value in (inputs.get("activation_energy_j_per_mol"),
+                  params.get("kissinger_activation_energy_j_per_mol"),
+                  params.get("assumed_activation_energy_j_per_mol"),
+                  params.get("screening_activation_energy_j_per_mol")):
+        if value:
+            return float(value)
+    return None
+
+
+def decomposition_model(snap: dict):
+    """(cp, E_a, T_ref, q_ref) of the zero-order q(T) behind TD24, or None.
+
+    The calcs layer keeps E_a and TD24; the zero-order model through TMR_ad(TD24) = 24 h with
+    that E_a is the same q(T) it used, so TMR at any temperature follows without repeating the
+    method choice here.
+    """
+    values, inputs = snap.get("values") or {}, snap.get("inputs") or {}
+    cp, ea, td24 = inputs.get("specific_heat_capacity_j_per_kg_k"), _activation_energy(snap), \
+        values.get("td24_k")
+    if not (cp and ea and td24):
+        return None
+    q_at_td24 = cp * R * td24 * td24 / (ea * DAY)
+    return cp, ea, td24, q_at_td24
+
+
+def cooling_failure_chart(snapshot) -> str:
+    """Temperature after a cooling failure: Tp, rise to MTSR, then the decomposition runaway."""
+    snap = snapshot_data(snapshot)
+    values, inputs = snap.get("values") or {}, snap.get("inputs") or {}
+    title = "Cooling-failure scenario"
+    tp, mtsr = inputs.get("process_temperature_k"), values.get("mtsr_k")
+    if not (tp and mtsr):
+        return _message(title, "MTSR not computed: no reaction heat or heat capacity.")
+    mtt, td24, tmr = values.get("mtt_k"), values.get("td24_k"), values.get("tmr_ad_at_mtsr_s")
+    cp = inputs.get("specific_heat_capacity_j_per_kg_k")
+    rate = inputs.get("max_heat_release_rate_w_per_kg")
+    # Rise of the synthesis at the peak adiabatic rate (linear: a short, conservative time).
+    t_rise_h = ((mtsr - tp) / (rate / cp) / HOUR) if (rate and cp and mtsr > tp) else 0.5
+    rise_note = "at the peak heat-release rate" if (rate and cp) else "schematic duration"
+    model = decomposition_model(snap)
+    with matplotlib.rc_context(_RC):
+        fig, ax = _figure()
+        ax.set_title(title)
+        pre = max(0.25, 0.15 * t_rise_h)
+        ax.plot([-pre, 0], [_c(tp)] * 2, color=INK, linestyle="-", label="normal operation")
+        ax.plot([0, t_rise_h], [_c(tp), _c(mtsr)], color=INK, linestyle="--", marker="o",
+                markevery=[1], label=f"synthesis, adiabatic ({rise_note})")
+        end_h = t_rise_h * 2 + pre
+        energy = inputs.get("decomposition_energy_j_per_kg")
+        note = "The synthesis is drawn to scale; "
+        if model and tmr and energy and cp:
+            _, ea, _, _ = model
+            tmr_h = tmr / HOUR
+            # The runaway after TMRad is drawn over a fixed span, not to scale: hours or days
+            # would flatten the synthesis to a vertical line.
+            span = max(2.0 * t_rise_h, 1.0)
+            t_final = mtsr + energy / cp
+            frac = np.linspace(0.0, 1.0, 200)[:-1]
+            temps = mtsr - (R * mtsr * mtsr / ea) * np.log(1.0 - frac)
+            keep = temps <= t_final
+            gap = 0.25 * span
+            ax.plot([t_rise_h, t_rise_h + gap], [_c(mtsr)] * 2, color=MID, linestyle="-.")
+            ax.plot(t_rise_h + gap + frac[keep] * span, _c(temps[keep]), color=MID,
+                    linestyle="-.", label=f"decomposition runaway after TMRad {tmr_h:.3g} h")
+            ax.annotate("≈", xy=(t_rise_h + gap / 2, _c(mtsr)), ha="center", va="center",
+                        fontsize=11, color=INK)
+            end_h = t_rise_h + gap + span * 1.05
+            ticks = [t for t in np.arange(0.0, t_rise_h + 1e-9, _step(t_rise_h))]
+            ax.set_xticks(ticks + [t_rise_h + gap + span])
+            ax.set_xticklabels([f"{t:g}" for t in ticks] + [f"+{tmr_h:.3g}"])
+            note += "after the break (≈) the time axis is compressed to TMRad."
+        else:
+            note += "no decomposition data for the runaway branch."
+        _note(fig, note)
+        _level(ax, _c(tp), "Tp", ":")
+        _level(ax, _c(mtsr), "MTSR", "--", LIGHT)
+        _level(ax, _c(mtt), "MTT", (0, (5, 2)))
+        _level(ax, _c(td24), "TD24", (0, (3, 1, 1, 1)))
+        top = max(v for v in (mtsr, mtt, td24, tp) if v is not None)
+        ax.set_ylim(_c(tp) - 15, _c(top) + 25)
+        ax.set_xlim(-pre, end_h)
+        ax.axvline(0, color=LIGHT, linewidth=0.8)
+        ax.annotate("cooling fails", xy=(0, _c(tp)), xytext=(3, -12), textcoords="offset points",
+                    fontsize=7)
+        ax.set_xlabel("time after cooling failure / h")
+        ax.set_ylabel("temperature / °C")
+        _legend(ax)
+        return _svg(fig)
+
+
+def accumulation_chart(snapshot, series: dict | None = None) -> str | None:
+    """Thermal accumulation and MTSR(t) over the dosing of a semi-batch step (None for batch)."""
+    snap = snapshot_data(snapshot)
+    values, inputs = snap.get("values") or {}, snap.get("inputs") or {}
+    if inputs.get("operation_mode") != "semi_batch":
+        return None
+    title = "Accumulation and MTSR during dosing"
+    tp, cp = inputs.get("process_temperature_k"), inputs.get("specific_heat_capacity_j_per_kg_k")
+    if series and series.get("time_s") and cp:
+        a = analyse_accumulation(
+            series["time_s"], series["heat_release_rate_w"], series["dosed_fraction"], cp,
+            series["initial_mass_kg"], series["feed_mass_kg"],
+            reactor_temperature_k=series.get("reactor_temperature_k"), process_temperature_k=tp)
+        t_h, x_ac, f_d, mtsr_t = a.time_s / HOUR, a.accumulation, a.dosed_fraction, a.mtsr_k
+        source = f"from the calorimetry series {series.get('file_name', '')}".strip()
+        i_max = int(np.argmax(mtsr_t))
+    else:
+        x_max, td, dt_ad = inputs.get("max_accumulation"), inputs.get("dosing_time_s"), \
+            values.get("adiabatic_temperature_rise_k")
+        if x_max is None or not td or dt_ad is None or tp is None:
+            return _message(title, "No calorimetry series and no maximum accumulation: "
+                                   "MTSR(t) cannot be drawn.")
+        t = np.linspace(0.0, td * 1.25, 126)
+        f_d = np.minimum(t / td, 1.0)
+        x_ac = np.minimum(f_d, x_max)
+        x_ac[t > td] = x_max * np.exp(-(t[t > td] - td) / (0.1 * td))
+        mtsr_t = tp + x_ac * dt_ad
+        t_h = t / HOUR
+        source = (f"estimate from the maximum accumulation {x_max:.0%} (no series): "
+                  "plateau assumed until the end of feed")
+        i_max = int(np.argmax(mtsr_t))
+    with matplotlib.rc_context(_RC):
+        fig, ax = _figure()
+        ax.set_title(title)
+        ax.plot(t_h, np.asarray(f_d) * 100, color=LIGHT, linestyle=":", label="dosed (% of feed)")
+        ax.plot(t_h, np.asarray(x_ac) * 100, color=INK, linestyle="--",
+                label="accumulation X_ac (%)")
+        ax.set_ylim(0, 105)
+        ax.set_xlabel("time from start of dosing / h")
+        ax.set_ylabel("fraction / %")
+        right = ax.twinx()
+        right.plot(t_h, _c(np.asarray(mtsr_t)), color=INK, linestyle="-", marker="s",
+                   markevery=[i_max], label="MTSR(t) (°C, right axis)")
+        right.set_ylabel("MTSR(t) / °C")
+        for level, name, style in ((values.get("mtt_k"), "MTT", (0, (5, 2))),
+                                   (values.get("td24_k"), "TD24", (0, (3, 1, 1, 1)))):
+            lo, hi = float(np.min(mtsr_t)), float(np.max(mtsr_t))
+            if level is not None and level < hi + 0.6 * (hi - lo + 20):
+                _level(right, _c(level), name, style)
+        lines = ax.get_lines() + right.get_lines()[:1]
+        _legend(ax, lines, [line.get_label() for line in lines])
+        _note(fig, source)
+        return _svg(fig)
+
+
+def tmr_chart(snapshot) -> str:
+    """Zero-order TMRad against the initial temperature, with TD24, MTSR and Tp marked."""
+    snap = snapshot_data(snapshot)
+    values, inputs = snap.get("values") or {}, snap.get("inputs") or {}
+    title = "TMRad against initial temperature"
+    model = decomposition_model(snap)
+    if model is None:
+        return _message(title, "No decomposition kinetics or onset: TMRad and TD24 unknown.")
+    cp, ea, td24, q24 = model
+    tp, mtsr = inputs.get("process_temperature_k"), values.get("mtsr_k")
+    lo = min(v for v in (tp, mtsr, td24) if v) - 20.0
+    hi = max(v for v in (tp, mtsr, td24) if v) + 30.0
+    temps = np.linspace(lo, hi, 120)
+    tmr_h = np.array([tmr_zero_order_at(t, cp, ea, td24, q24) for t in temps]) / HOUR
+    with matplotlib.rc_context(_RC):
+        fig, ax = _figure()
+        ax.set_title(title)
+        ax.semilogy(_c(temps), tmr_h, color=INK, linestyle="-", label="TMRad, zero order")
+        ax.axhline(24, color=MID, linestyle="--", linewidth=1.0, label="24 h")
+        ax.axhline(8, color=LIGHT, linestyle=":", linewidth=1.0, label="8 h")
+        ax.plot([_c(td24)], [24], marker="D", color=INK, linestyle="none",
+                label=f"TD24 {_c(td24):.0f} °C")
+        ax.axvline(_c(td24), color=INK, linestyle=(0, (3, 1, 1, 1)), linewidth=0.8)
+        if mtsr:
+            tm = tmr_zero_order_at(mtsr, cp, ea, td24, q24) / HOUR
+            ax.plot([_c(mtsr)], [tm], marker="o", color=INK, markerfacecolor="white",
+                    linestyle="none", label=f"MTSR {_c(mtsr):.0f} °C: {tm:.3g} h")
+        if tp:
+            ax.axvline(_c(tp), color=LIGHT, linestyle=":", linewidth=0.8)
+            ax.annotate("Tp", xy=(_c(tp), 1.0), xycoords=("data", "axes fraction"),
+                        xytext=(2, -10), textcoords="offset points", fontsize=7)
+        ax.set_xlabel("initial temperature / °C")
+        ax.set_ylabel("TMRad / h (log scale)")
+        ax.set_xlim(_c(lo), _c(hi))
+        _legend(ax)
+        label = (snap.get("parameters") or {}).get("td24_label")
+        _note(fig, f"zero order, Ea {ea / 1000:.0f} kJ/mol, cp {cp / 1000:.2f} kJ/(kg·K)"
+              + (f"; TD24 is a {label}" if label else ""))
+        return _svg(fig)
+
+
+def heat_release_chart(snapshot, series: dict | None = None) -> str:
+    """Plant heat-release rate against the vessel's cooling capacity."""
+    snap = snapshot_data(snapshot)
+    values, inputs = snap.get("values") or {}, snap.get("inputs") or {}
+    title = "Heat release against plant cooling capacity"
+    cap, peak = values.get("cooling_capacity_w"), values.get("plant_peak_heat_release_w")
+    margin = (snap.get("parameters") or {}).get("minimum_cooling_margin", 1.3)
+    if cap is None or peak is None:
+        return _message(title, "No vessel or no peak heat-release rate: the cooling duty "
+                               "cannot be compared.")
+    plant_mass = inputs.get("reaction_mass_kg")
+    with matplotlib.rc_context(_RC):
+        fig, ax = _figure()
+        ax.set_title(title)
+        if series and series.get("time_s") and plant_mass:
+            t = np.asarray(series["time_s"], dtype=float)
+            fd = np.asarray(series["dosed_fraction"], dtype=float)
+            m = series["initial_mass_kg"] + series["feed_mass_kg"] * fd / max(float(fd.max()), 1e-12)
+            q = np.asarray(series["heat_release_rate_w"], dtype=float) / m * plant_mass
+            ax.plot(t / HOUR, q / 1000, color=INK, linestyle="-",
+                    label="heat release scaled to plant mass")
+            ax.set_xlabel("time from start of dosing / h")
+            xmax = float(t[-1] / HOUR)
+        else:
+            ax.barh([1], [peak / 1000], height=0.5, color="white", edgecolor=INK, hatch="////",
+                    label="peak heat release at plant scale")
+            ax.set_yticks([])
+            ax.set_xlabel("power / kW")
+            xmax = None
+        if xmax is not None:
+            ax.axhline(cap / 1000, color=INK, linestyle="--", label="cooling capacity U·A·ΔT")
+            ax.axhline(cap / margin / 1000, color=MID, linestyle=":",
+                       label=f"capacity / {margin:g} (required margin)")
+            ax.set_ylabel("power / kW")
+            ax.set_xlim(0, xmax)
+            ax.set_ylim(0, max(cap, float(q.max())) / 1000 * 1.25)
+        else:
+            ax.axvline(cap / 1000, color=INK, linestyle="--", label="cooling capacity U·A·ΔT")
+            ax.axvline(cap / margin / 1000, color=MID, linestyle=":",
+                       label=f"capacity / {margin:g} (required margin)")
+            ax.set_xlim(0, max(cap, peak) / 1000 * 1.3)
+            ax.set_ylim(0.4, 2.2)
+        _legend(ax)
+        ratio = values.get("cooling_margin")
+        if ratio is not None and math.isfinite(ratio):
+            _note(fig, f"cooling margin (capacity / peak) {ratio:.2f}; required {margin:g}")
+        return _svg(fig)
+
+
+def step_charts(snapshot, series: dict | None = None) -> dict[str, str]:
+    """Every chart that applies to a step, by name, in the order a page shows them."""
+    charts = {
+        "cooling_failure": cooling_failure_chart(snapshot),
+        "accumulation": accumulation_chart(snapshot, series),
+        "tmr": tmr_chart(snapshot),
+        "heat_release": heat_release_chart(snapshot, series),
+    }
+    return {name: svg for name, svg in charts.items() if svg is not None}

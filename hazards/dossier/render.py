@@ -1,0 +1,133 @@
+"""A dossier's pages: the frozen content -> HTML + charts -> PDF (in a bounded child process)."""
+
+from __future__ import annotations
+
+import json
+import os
+import signal
+import subprocess
+import sys
+from dataclasses import dataclass
+from pathlib import Path
+
+from django.conf import settings
+from django.template.loader import render_to_string
+
+from hazards.dossier import charts as ch
+from hazards.dossier.pdf import PdfJob, write_pdf
+from hazards.dossier.sandbox import EXIT_MEMORY
+from hazards.dossier.view import dossier_view
+from hazards.services.indicators import canonical_json
+
+DEFERENCE = ("This dossier supports and does not replace a qualified assessment; local codes, "
+             "company standards and licensed practice prevail.")
+RECORD_NAME, CONTEXT_NAME = "revision.json", "dossier-context.json"
+ROOT = Path(__file__).resolve().parents[2]
+
+
+class RenderError(Exception):
+    """A render that did not produce a PDF; the message is safe to show."""
+
+
+@dataclass(frozen=True)
+class DossierMeta:
+    """The parts of a Dossier row the pages print (all fixed when it is requested)."""
+
+    id: int
+    version: int
+    process_id: int
+    created_at: str
+    content_sha256: str
+    context_sha256: str
+    seal: str
+    requested_by: str = ""
+    reason: str = ""
+
+    @classmethod
+    def of(cls, dossier) -> DossierMeta:
+        user = dossier.requested_by
+        return cls(
+            id=dossier.pk, version=dossier.version, process_id=dossier.process_id,
+            created_at=dossier.created_at.isoformat().replace("+00:00", "Z"),
+            content_sha256=dossier.content_sha256, context_sha256=dossier.context_sha256,
+            seal=dossier.seal, reason=dossier.reason,
+            requested_by=(user.get_full_name() or user.get_username()) if user else "",
+        )
+
+
+def keywords(meta: DossierMeta) -> str:
+    """What verify_dossier reads back from the PDF's metadata (pdf:Keywords)."""
+    return (f"exoledger-dossier; id={meta.id}; process={meta.process_id}; "
+            f"version={meta.version}; content-sha256={meta.content_sha256}; "
+            f"context-sha256={meta.context_sha256}; seal={meta.seal}")
+
+
+def css_string(text: str) -> str:
+    """Text safe inside a double-quoted CSS string in a <style> element."""
+    out = []
+    for ch in text:
+        if ch.isalnum() or ch in " .,;:·…-_()/+#'":
+            out.append(ch)
+        else:
+            out.append(f"\\{ord(ch):x} ")
+    return "".join(out)
+
+
+def build_job(content: dict, meta: DossierMeta) -> PdfJob:
+    """Everything WeasyPrint needs, computed from the frozen content only."""
+    view = dossier_view(content, meta)
+    chart_map = {}
+    for step in view["steps"]:
+        svgs = ch.step_charts(step["snapshot"], step["series"])
+        step["charts"] = []
+        for name, svg in svgs.items():
+            key = f"step-{step['id']}-{name}.svg"
+            chart_map[key] = svg
+            step["charts"].append({"name": name, "url": f"chart:{key}"})
+    html = render_to_string("dossier/dossier.html", {
+        **view, "meta": meta, "deference": DEFERENCE, "keywords": keywords(meta),
+        "header_left": css_string(f"{view['process']['name']} · {view['process']['site']['name']}"),
+        "header_right": css_string(f"dossier v{meta.version} · content "
+                                   f"{meta.content_sha256[:16]}…"),
+        "fonts_css": (ROOT / "hazards/static/fonts/fonts.css").as_uri(),
+        "dossier_css": (ROOT / "hazards/static/dossier/dossier.css").as_uri(),
+    })
+    attachments = [
+        {"name": RECORD_NAME, "content": canonical_json(content["record"]),
+         "description": f"Canonical content of the revision, SHA-256 {meta.content_sha256}"},
+        {"name": CONTEXT_NAME, "content": canonical_json(content["context"]),
+         "description": f"Signatures, findings, history and provenance shown in this dossier, "
+                        f"SHA-256 {meta.context_sha256}"},
+    ]
+    return PdfJob(html=html, charts=chart_map, attachments=attachments,
+                  record_date=content["context"]["record_date"])
+
+
+def render_in_process(content: dict, meta: DossierMeta) -> bytes:
+    return write_pdf(build_job(content, meta))
+
+
+def render_sandboxed(content: dict, meta: DossierMeta, *, timeout: float | None = None,
+                     memory_bytes: int | None = None) -> bytes:
+    """Render in a child process bounded in memory (RLIMIT_AS), CPU and wall-clock time."""
+    timeout = settings.DOSSIER_RENDER_TIMEOUT_SECONDS if timeout is None else timeout
+    memory = settings.DOSSIER_RENDER_MEMORY_BYTES if memory_bytes is None else memory_bytes
+    job = build_job(content, meta)
+    env = {**os.environ, "OPENBLAS_NUM_THREADS": "1", "OMP_NUM_THREADS": "1",
+           "PYTHONPATH": os.pathsep.join([str(ROOT), os.environ.get("PYTHONPATH", "")])}
+    argv = [sys.executable, "-m", "hazards.dossier.sandbox", str(int(memory)),
+            str(max(1, int(timeout) + 1))]
+    try:
+        proc = subprocess.run(argv, input=json.dumps(job.to_json()).encode(), capture_output=True,
+                              timeout=timeout, env=env, cwd=ROOT, check=False)
+    except subprocess.TimeoutExpired:
+        raise RenderError(f"rendering took longer than its limit of {timeout:g} s") from None
+    if proc.returncode == 0 and proc.stdout.startswith(b"%PDF-"):
+        return proc.stdout
+    err = proc.stderr.decode("utf-8", "replace").strip().splitlines()
+    if proc.returncode == EXIT_MEMORY or any("MemoryError" in line or "annot allocate" in line
+                                             for line in err):
+        raise RenderError(f"rendering exceeded its memory limit of {memory // 2**20} MiB")
+    if proc.returncode in (-signal.SIGXCPU, -signal.SIGKILL):
+        raise RenderError(f"rendering exceeded its CPU-time limit of {timeout:g} s")
+    raise RenderError(err[-1][:500] if err else f"renderer exited with {proc.returncode}")

@@ -1,0 +1,152 @@
+"""The dossier's only contact with the review workflow (app label `review`, issue 5).
+
+Everything here degrades to "no revision" while the review app is not installed, so the
+dossier of a process can be rendered from its current state.
+"""
+
+from __future__ import annotations
+
+from django.apps import apps
+
+
+def _model(name: str):
+    try:
+        return apps.get_model("review", name)
+    except LookupError:
+        return None
+
+
+def _iso(value) -> str | None:
+    return value.isoformat().replace("+00:00", "Z") if value is not None else None
+
+
+SIGNED = ("lodged", "checked", "endorsed")
+
+
+def latest_revision(process, *, reconcile: bool = False):
+    """The newest revision whose content has been signed and still stands, or None.
+
+    With `reconcile`, review's own service first replaces signed revisions whose content no
+    longer matches the process, so a dossier never presents a superseded revision as current.
+    """
+    ProcessRevision = _model("ProcessRevision")
+    if ProcessRevision is None:
+        return None
+    if reconcile:
+        from hazards.review.services.revisions import revisions_reconcile
+
+        revisions_reconcile(process=process)
+    return (ProcessRevision.objects.filter(process=process, state__in=SIGNED)
+            .order_by("-number", "-pk").first())
+
+
+def live_content(process) -> dict | None:
+    """Review's canonical content of the process as it is now (None without the review app)."""
+    if _model("ProcessRevision") is None:
+        return None
+    from hazards.review.services.revisions import revision_content
+
+    return revision_content(process)
+
+
+def revision_info(revision) -> dict:
+    state = getattr(revision, "state", "")
+    display = getattr(revision, "get_state_display", None)
+    return {
+        "id": revision.pk,
+        "number": revision.number,
+        "state": state,
+        "state_label": display() if callable(display) else str(state),
+        "created_at": _iso(revision.created_at),
+        "content_sha256": getattr(revision, "content_sha256", ""),
+    }
+
+
+def signatures(revision) -> list[dict]:
+    Signature = _model("Signature")
+    if Signature is None:
+        return []
+    out = []
+    for sig in Signature.objects.filter(revision=revision).order_by("signed_at", "pk"):
+        meaning = getattr(sig, "get_meaning_display", None)
+        out.append({
+            "printed_name": sig.printed_name,
+            "meaning": sig.meaning,
+            "meaning_label": meaning() if callable(meaning) else str(sig.meaning),
+            "signed_at": _iso(sig.signed_at),
+            "content_sha256": getattr(sig, "content_sha256", ""),
+            "seal": getattr(sig, "seal", ""),
+        })
+    return out
+
+
+def findings(process, revision) -> list[dict]:
+    Finding = _model("Finding")
+    if Finding is None:
+        return []
+    names = {f.name for f in Finding._meta.get_fields()}
+    rows = Finding.objects.filter(process=process) if "process" in names else \
+        Finding.objects.filter(revision__process=process)
+    out = []
+    for f in rows.select_related("owner").order_by("pk"):
+        owner = f.owner
+        status = getattr(f, "get_status_display", None)
+        kind = getattr(f, "get_kind_display", None)
+        out.append({
+            "id": f.pk,
+            "title": f.title,
+            "description": getattr(f, "description", ""),
+            "kind": kind() if callable(kind) else str(getattr(f, "kind", "")),
+            "owner": (owner.get_full_name() or owner.get_username()) if owner else "",
+            "due_date": _iso(getattr(f, "due_date", None)),
+            "status": status() if callable(status) else str(getattr(f, "status", "")),
+        })
+    return out
+
+
+def last_approved_before(revision) -> dict | None:
+    """The newest earlier revision the committee approved (signed with meaning "approved")."""
+    return last_approved_before_number(revision.process, revision.number)
+
+
+def last_approved_before_number(process, number) -> dict | None:
+    """The newest approved revision of the process (before revision `number` if given)."""
+    ProcessRevision = _model("ProcessRevision")
+    if ProcessRevision is None:
+        return None
+    rows = ProcessRevision.objects.filter(process=process, signatures__meaning="approved")
+    if number is not None:
+        rows = rows.filter(number__lt=number)
+    prev = rows.order_by("-number").first()
+    if prev is None:
+        return None
+    return {"number": prev.number, "created_at": _iso(prev.created_at),
+            "created_at_dt": prev.created_at, "content_sha256": prev.content_sha256}
+
+
+def history(process, revision, since) -> list[dict]:
+    """Every state change of the revisions after the last approved one, up to `revision`."""
+    Transition = _model("Transition")
+    if Transition is None:
+        return []
+    rows = Transition.objects.filter(revision__process=process)
+    if revision is not None:
+        rows = rows.filter(revision__number__lte=revision.number)
+    if since:
+        rows = rows.filter(revision__number__gt=since["number"])
+    out = []
+    for t in rows.select_related("revision", "actor").order_by("at", "pk"):
+        who = (t.actor.get_full_name() or t.actor.get_username()) if t.actor else "the system"
+        out.append({"at": _iso(t.at),
+                    "what": f"revision {t.revision.number}: {t.from_state or 'new'} → "
+                            f"{t.to_state}",
+                    "detail": f"by {who}" + (f": {t.reason}" if t.reason else "")})
+    return out
+
+
+def audit_head_hash() -> str | None:
+    try:
+        from hazards.review.audit import head_hash
+    except ImportError:
+        return None
+    return head_hash()

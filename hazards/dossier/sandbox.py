@@ -1,0 +1,43 @@
+"""Render one PdfJob in a child process with a memory and CPU-time limit.
+
+Run as `python -m hazards.dossier.sandbox MEMORY_BYTES CPU_SECONDS`: the job arrives as JSON
+on stdin, the PDF leaves on stdout. The limits are set before WeasyPrint is imported
+(RLIMIT_AS for memory, RLIMIT_CPU for time); the parent adds a wall-clock timeout and kills
+the child past it. WeasyPrint keeps the whole document in memory and does not give memory
+back after a render (INTEGRITY.md §4.5), so a render never runs in a worker's own process.
+"""
+
+from __future__ import annotations
+
+import json
+import resource
+import sys
+
+EXIT_MEMORY = 3
+EXIT_ERROR = 4
+
+
+def main(argv: list[str]) -> int:
+    memory, cpu = int(argv[1]), int(argv[2])
+    if memory > 0:
+        resource.setrlimit(resource.RLIMIT_AS, (memory, memory))
+    if cpu > 0:
+        resource.setrlimit(resource.RLIMIT_CPU, (cpu, cpu + 1))
+    try:
+        job_data = json.loads(sys.stdin.buffer.read())
+        from hazards.dossier.pdf import PdfJob, write_pdf
+
+        pdf = write_pdf(PdfJob(**job_data))
+    except MemoryError:
+        sys.stderr.write("dossier render exceeded its memory limit\n")
+        return EXIT_MEMORY
+    except BaseException as exc:  # noqa: BLE001 - reported to the parent as text
+        sys.stderr.write(f"dossier render failed: {type(exc).__name__}: {exc}\n")
+        return EXIT_ERROR
+    sys.stdout.buffer.write(pdf)
+    sys.stdout.buffer.flush()
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main(sys.argv))

@@ -1,0 +1,262 @@
+"""The frozen dossier content -> what the templates print (display units, labels, sources)."""
+
+from __future__ import annotations
+
+import datetime as dt
+
+from calcs.constants import T_ZERO_C
+
+# SI key -> (label, display unit, SI -> display)
+_C = ("°C", lambda k: k - T_ZERO_C)
+_K = ("K", lambda k: k)
+_H = ("h", lambda s: s / 3600)
+_MIN = ("min", lambda s: s / 60)
+_KJKG = ("kJ/kg", lambda j: j / 1000)
+_KW = ("kW", lambda w: w / 1000)
+_BAR = ("bar abs", lambda p: p / 1e5)
+_PLAIN = ("", lambda x: x)
+
+INPUTS = [
+    # key, label, unit converter, where it comes from
+    ("process_temperature_k", "Process temperature Tp", _C, "step"),
+    ("reaction_mass_kg", "Reaction mass (plant)", ("kg", lambda x: x), "step"),
+    ("specific_heat_capacity_j_per_kg_k", "Specific heat capacity cp",
+     ("kJ/(kg·K)", lambda x: x / 1000), "step"),
+    ("operation_mode", "Operation mode", None, "step"),
+    ("system", "System", None, "step"),
+    ("operating_pressure_pa", "Operating pressure", _BAR, "step"),
+    ("dosing_time_s", "Dosing time", _MIN, "step"),
+    ("mtt_override_k", "MTT override", _C, "step"),
+    ("specific_reaction_heat_j_per_kg", "Specific reaction heat Q′", _KJKG, "calorimetry"),
+    ("max_accumulation", "Maximum accumulation", ("%", lambda x: x * 100), "calorimetry"),
+    ("max_heat_release_rate_w_per_kg", "Peak heat-release rate", ("W/kg", lambda x: x),
+     "calorimetry"),
+    ("gas_release_mol_per_kg", "Gas release", ("mol/kg", lambda x: x), "calorimetry"),
+    ("series_sha256", "Calorimetry series (SHA-256)", None, "calorimetry"),
+    ("decomposition_method", "Decomposition test method", None, "decomposition"),
+    ("onset_temperature_k", "Onset temperature", _C, "decomposition"),
+    ("decomposition_energy_j_per_kg", "Decomposition energy", _KJKG, "decomposition"),
+    ("activation_energy_j_per_mol", "Activation energy Ea", ("kJ/mol", lambda x: x / 1000),
+     "decomposition"),
+    ("reference_temperature_k", "Reference temperature", _C, "decomposition"),
+    ("heat_release_rate_at_reference_w_per_kg", "Heat-release rate at reference",
+     ("W/kg", lambda x: x), "decomposition"),
+    ("phi_factor", "φ factor of the test", _PLAIN, "decomposition"),
+    ("solvent_cas", "Solvent (CAS)", None, "solvent"),
+    ("vessel_heat_transfer_area_m2", "Heat-transfer area", ("m²", lambda x: x), "vessel"),
+    ("vessel_u_w_per_m2_k", "Overall heat-transfer coefficient U", ("W/(m²·K)", lambda x: x),
+     "vessel"),
+    ("vessel_coolant_temperature_k", "Coolant temperature", _C, "vessel"),
+    ("vessel_relief_set_pressure_pa", "Relief set pressure", _BAR, "vessel"),
+    ("vessel_design_pressure_pa", "Design pressure", _BAR, "vessel"),
+    ("vessel_headspace_m3", "Headspace volume", ("m³", lambda x: x), "vessel"),
+]
+
+INDICATORS = [
+    # value key, label, converter, method key
+    ("adiabatic_temperature_rise_k", "Adiabatic temperature rise ΔTad", _K,
+     "adiabatic_temperature_rise"),
+    ("mtsr_k", "MTSR", _C, "mtsr"),
+    ("mtsr_time_s", "Time of the MTSR maximum", _MIN, "mtsr"),
+    ("mtt_k", "MTT", _C, "mtt"),
+    ("td24_k", "TD24", _C, "td24"),
+    ("tmr_ad_at_mtsr_s", "TMRad at MTSR", _H, "tmr_ad_at_mtsr"),
+    ("criticality_class", "Criticality class", _PLAIN, "criticality_class"),
+    ("severity", "Severity", None, "severity"),
+    ("probability", "Probability", None, "probability"),
+    ("risk_cell", "Risk-matrix cell", None, "risk_cell"),
+    ("cooling_capacity_w", "Cooling capacity", _KW, "cooling_capacity"),
+    ("plant_peak_heat_release_w", "Peak heat release at plant scale", _KW,
+     "plant_peak_heat_release"),
+    ("cooling_margin", "Cooling margin (capacity / peak)", _PLAIN, "cooling_margin"),
+    ("minimum_dosing_time_s", "Minimum dosing time", _MIN, "minimum_dosing_time"),
+    ("end_pressure_pa", "Pressure at MTSR (closed vessel)", _BAR, "end_pressure"),
+]
+
+METHOD_LABELS = {
+    "entered": "entered from the calorimetry run",
+    "series.trapezoid_per_final_mass": "trapezoid integral of the series, per final mass",
+    "adiabatic.specific_heat_over_cp": "ΔTad = Q′ / cp",
+    "mtsr.batch": "batch: MTSR = Tp + ΔTad",
+    "mtsr.semi_batch.series": "semi-batch: max of Tr(t) + X_ac(t)·Q/(m(t)·cp) over the series",
+    "mtsr.semi_batch.max_accumulation": "semi-batch: Tp + X_ac,max·ΔTad",
+    "mtsr.semi_batch.worst_case_no_accumulation_data": "semi-batch worst case: Tp + ΔTad",
+    "mtt.override": "entered override (reason recorded)",
+    "td24.kinetic": "zero-order kinetics from Ea, Tref, qref",
+    "td24.kinetic_kissinger": "Kissinger fit of DSC peaks, zero order",
+    "td24.adiabatic_phi_corrected": "adiabatic onset, φ-corrected (Fisher-Goetz)",
+    "td24.adiabatic_uncorrected": "adiabatic onset, not φ-corrected",
+    "td24.dsc_onset_screening": "screening estimate from one DSC onset (assumed Ea and q)",
+    "tmr.zero_order": "zero order (Townsend-Tou) from the q(T) behind TD24",
+    "criticality.stoessel": "Stoessel criticality classes (Tp, MTSR, MTT, TD24)",
+    "risk_matrix": "site risk matrix (configuration)",
+    "cooling.ua_delta_t": "U·A·(Tp − Tcoolant)",
+    "cooling.capacity_over_peak": "cooling capacity / peak heat release",
+    "cooling.dosing_controlled_q_tot_over_q_ex": "dosing-controlled: Q_tot / q_ex",
+    "pressure.closed_vessel_at_mtsr": "closed vessel: vapour + pad + gas at MTSR",
+    "severity.synthesis_adiabatic_rise": "from ΔTad of the synthesis",
+    "severity.synthesis_plus_decomposition_adiabatic_rise":
+        "from ΔTad of synthesis plus decomposition",
+    "probability.tmr_ad_at_mtsr": "from TMRad at MTSR",
+    "cooling.lab_specific_peak_times_mass.entered":
+        "entered peak heat-release rate × plant mass",
+    "cooling.lab_specific_peak_times_mass.series": "series peak heat-release rate × plant mass",
+}
+
+def method_label(key: str) -> str:
+    if key in METHOD_LABELS:
+        return METHOD_LABELS[key]
+    if key.startswith("mtt.boiling_point."):
+        return f"boiling point at the operating pressure ({key.rsplit('.', 1)[1]} data)"
+    if key.startswith("mtt.closed_vessel_"):
+        return "closed vessel: temperature at which the pressure reaches the relief set point"
+    return key
+
+
+MODE = {"batch": "batch", "semi_batch": "semi-batch"}
+SYSTEM = {"open": "open (vented)", "closed": "closed"}
+
+
+def _number(value) -> str:
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, int):
+        return str(value)
+    if isinstance(value, float):
+        if value == 0:
+            return "0"
+        mag = abs(value)
+        if mag >= 1000:
+            return f"{value:,.0f}".replace(",", " ")
+        if mag >= 100:
+            return f"{value:.1f}"
+        if mag >= 1:
+            return f"{value:.2f}"
+        return f"{value:.3g}"
+    return str(value)
+
+
+def _show(value, conv) -> tuple[str, str]:
+    if value is None or value == "":
+        return "—", ""
+    if conv is None:
+        text = {**MODE, **SYSTEM}.get(value, str(value)) if isinstance(value, str) else str(value)
+        return text, ""
+    unit, fn = conv
+    return _number(fn(value)) if isinstance(value, (int, float)) else str(value), unit
+
+
+def when(iso: str | None) -> str:
+    """An ISO time as printed: 2026-03-04 09:15 UTC (the zone is always shown)."""
+    if not iso:
+        return "—"
+    value = dt.datetime.fromisoformat(iso.replace("Z", "+00:00"))
+    if value.tzinfo is None:
+        return value.strftime("%Y-%m-%d")
+    offset = value.utcoffset()
+    zone = "UTC" if not offset else value.strftime("UTC%z")
+    return value.strftime("%Y-%m-%d %H:%M:%S ") + zone
+
+
+def _source(kind: str, prov: dict, inputs: dict) -> str:
+    run, test = prov.get("calorimetry_run"), prov.get("decomposition_test")
+    if kind == "calorimetry" and run:
+        bits = [run.get("instrument") or "calorimeter", (run.get("run_date") or "")[:10]]
+        if run.get("file_name"):
+            bits.append(f"file {run['file_name']} sha256 {run.get('file_sha256', '')[:16]}…")
+        if run.get("series_sha256"):
+            bits.append(f"series {run.get('series_file_name', '')}")
+        return f"calorimetry run #{run['id']} ({run.get('chosen')}): " + ", ".join(
+            b for b in bits if b)
+    if kind == "decomposition" and test:
+        bits = [test.get("method"), test.get("instrument"), (test.get("test_date") or "")[:10],
+                test.get("crucible")]
+        return f"decomposition test #{test['id']} ({test.get('chosen')}): " + ", ".join(
+            b for b in bits if b)
+    if kind == "solvent" and prov.get("solvent"):
+        s = prov["solvent"]
+        return f"solvent {s['name']} ({s['vapour_pressure_source']} vapour pressure)"
+    if kind == "vessel" and prov.get("vessel"):
+        v = prov["vessel"]
+        return f"vessel {v['tag']} {v['name']}"
+    if kind == "step":
+        return "reaction step record"
+    return "—"
+
+
+def _step(step: dict, context: dict) -> dict:
+    snap = step.get("snapshot") or step.get("indicators") or {}
+    inputs, values = snap.get("inputs") or {}, snap.get("values") or {}
+    methods, params = snap.get("methods") or {}, snap.get("parameters") or {}
+    prov = context.get("provenance", {}).get(str(step.get("id")), {})
+    input_rows = []
+    for key, label, conv, kind in INPUTS:
+        if key not in inputs:
+            continue
+        value, unit = _show(inputs.get(key), conv)
+        if key == "series_sha256" and inputs.get(key):
+            value = inputs[key]
+        input_rows.append({"label": label, "value": value, "unit": unit,
+                           "source": _source(kind, prov, inputs) if inputs.get(key) is not None
+                           else "not given", "hash": key == "series_sha256"})
+    indicator_rows = []
+    for key, label, conv, method in INDICATORS:
+        value, unit = _show(values.get(key), conv)
+        m = methods.get(method)
+        if key == "mtsr_time_s" and values.get(key) is None:
+            continue
+        if key == "td24_k" and params.get("td24_label"):
+            label = f"{label} ({params['td24_label']})"
+        indicator_rows.append({"label": label, "value": value, "unit": unit,
+                               "method": method_label(m) if m else "—",
+                               "method_key": m or ""})
+    ser = context.get("series", {}).get(inputs.get("series_sha256") or "")
+    td24_low = values.get("td24_below_process_temperature")
+    return {
+        "id": step.get("id"),
+        "sequence": step.get("sequence"),
+        "name": step.get("name"),
+        "mode": MODE.get(inputs.get("operation_mode") or step.get("operation_mode"), "—"),
+        "snapshot": snap,
+        "series": ser,
+        "inputs": input_rows,
+        "indicators": indicator_rows,
+        "parameters": [{"key": k, "value": _number(v) if isinstance(v, (int, float)) else str(v)}
+                       for k, v in sorted(params.items())],
+        "warnings": list(snap.get("warnings") or []),
+        "mtt_override_reason": step.get("mtt_override_reason") or "",
+        "criticality_class": values.get("criticality_class"),
+        "td24_below_tp": bool(td24_low),
+        "tp": _show(inputs.get("process_temperature_k"), _C)[0],
+        "summary": {key: _show(values.get(key), conv)[0] for key, _, conv, _ in INDICATORS},
+        "inputs_hash": snap.get("inputs_hash", ""),
+        "computed_at": when(snap.get("computed_at")),
+        "calcs_version": snap.get("calcs_version", ""),
+        "no_snapshot": not snap,
+    }
+
+
+def dossier_view(content: dict, meta) -> dict:
+    record, context = content["record"], content["context"]
+    revision = context.get("revision")
+    steps = sorted((_step(s, context) for s in record.get("steps", [])),
+                   key=lambda s: (s["sequence"] or 0, s["id"] or 0))
+    signatures = [{**s, "signed_at_text": when(s.get("signed_at"))}
+                  for s in context.get("signatures", [])]
+    history = [{**h, "at_text": when(h.get("at"))} for h in context.get("history", [])]
+    return {
+        "process": context["process"],
+        "revision": revision,
+        "revision_text": (f"revision {revision['number']} — {revision['state_label']}"
+                          if revision else "current state (no revision recorded)"),
+        "status_text": revision["state_label"] if revision else "not submitted for review",
+        "signatures": signatures,
+        "findings": context.get("findings", []),
+        "history": history,
+        "last_approved": context.get("last_approved"),
+        "audit_head_hash": context.get("audit_head_hash"),
+        "references": sorted(context.get("references", {}).items()),
+        "steps": steps,
+        "record_date_text": when(context.get("record_date")),
+        "issued_text": when(meta.created_at),
+    }

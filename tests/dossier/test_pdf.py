@@ -1,0 +1,101 @@
+"""A dossier PDF read back: PDF/A-3u, fonts, attachments, cover, signatures, footers, charts."""
+
+from __future__ import annotations
+
+import io
+import json
+
+import pikepdf
+
+from hazards.dossier.render import DEFERENCE
+from tests.dossier.helpers import attachments, fonts, page_texts, sha
+
+
+def test_the_pdf_identifies_itself_as_pdf_a_3u_in_its_xmp_metadata(issued_data):
+    issued = issued_data["dossier"]
+    with pikepdf.open(io.BytesIO(issued_data["pdf"])) as pdf:
+        meta = pdf.open_metadata()
+        assert meta.pdfa_status == "3U"
+        assert "Thermal-safety dossier" in str(meta.get("dc:title"))
+        assert f"content-sha256={issued.content_sha256}" in str(meta.get("pdf:Keywords"))
+        assert "/OutputIntents" in pdf.Root
+        assert not pdf.is_encrypted
+
+
+def test_every_font_is_embedded_and_is_the_shipped_one(issued_data):
+    used = fonts(issued_data["pdf"])
+    assert used, "no fonts found"
+    for name, embedded in used:
+        assert embedded, name
+        # Subset tag + our family; no system fallback font crept in.
+        assert "Exoledger-Sans" in name, name
+
+
+def test_the_attached_revision_hash_is_the_covers_and_the_databases(issued_data):
+    issued, revision = issued_data["dossier"], issued_data["revision"]
+    files = attachments(issued_data["pdf"])
+    assert set(files) == {"revision.json", "dossier-context.json"}
+    record_hash = sha(files["revision.json"])
+    assert record_hash == issued.content_sha256 == revision["content_sha256"]
+    assert json.loads(files["revision.json"]) == revision["content"]
+    assert sha(files["dossier-context.json"]) == issued.context_sha256
+    cover = page_texts(issued_data["pdf"])[0]
+    assert record_hash in cover.replace(" ", "")
+
+
+def test_the_cover_names_the_process_revision_status_version_and_every_signature(issued_data):
+    cover = page_texts(issued_data["pdf"])[0]
+    revision = issued_data["revision"]
+    assert issued_data["process"]["name"] in cover
+    assert issued_data["process"]["site"] in cover
+    assert f"revision {revision['number']}" in cover
+    assert revision["state"] in cover
+    assert f"version {issued_data['dossier'].version}" in cover
+    assert len(issued_data["signatures"]) == 3
+    for sig in issued_data["signatures"]:
+        assert sig["printed_name"] in cover
+        assert sig["signed_at"].strftime("%Y-%m-%d %H:%M:%S UTC") in cover
+        assert " ".join(sig["meaning"].split()) in cover
+
+
+def test_every_page_carries_the_deference_notice_and_page_x_of_y(issued_data):
+    texts = page_texts(issued_data["pdf"])
+    assert len(texts) >= 5
+    for number, text in enumerate(texts, start=1):
+        assert DEFERENCE in text, number
+        assert f"page {number} of {len(texts)}" in text, number
+
+
+def test_every_step_page_has_its_charts_with_labelled_axes(issued_data):
+    texts = page_texts(issued_data["pdf"])
+    steps = issued_data["content"]["record"]["steps"]
+    for step in steps:
+        heading = f"Step {step['sequence']}. {step['name']}"
+        pages = [t for t in texts if heading in t]
+        assert pages, heading
+        page = pages[0]
+        assert "Cooling-failure scenario" in page
+        assert "temperature / °C" in page
+        assert "TMRad against initial temperature" in page
+        if step["operation_mode"] == "semi_batch":
+            assert "Accumulation and MTSR during dosing" in page
+            assert "from the calorimetry series run-17.csv" in page
+
+
+def test_the_summary_findings_history_and_references_are_printed(issued_data):
+    text = " ".join(page_texts(issued_data["pdf"]))
+    content = issued_data["content"]
+    assert "Summary of the steps" in text
+    assert "Confirm the relief sizing" in text
+    assert "Author Persona" in text  # the finding's owner
+    assert "Open" in text
+    assert "Change history" in text
+    assert "revision 1: drafting → lodged" in text
+    assert content["context"]["audit_head_hash"] in text.replace(" ", "")
+    from calcs.constants import REFERENCES
+
+    keys = {k for s in content["record"]["steps"] for k in s["indicators"]["references"]}
+    assert keys
+    for key in keys:
+        assert f"[{key}]" in text
+        assert " ".join(REFERENCES[key].split())[:40] in text
