@@ -20,5 +20,6 @@ urlpatterns = [
     path("schema/", SpectacularAPIView.as_view(), name="api-schema"),
     path("docs/", SpectacularSwaggerView.as_view(url_name="api-schema"), name="api-docs"),
     path("problems/", views.ProblemTypesView.as_view(), name="api-problems"),
+    path("", include("hazards.dossier.api")),
     path("", include(router.urls)),
 ]
