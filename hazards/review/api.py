@@ -181,7 +181,7 @@ class FindingViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveModelMi
     def perform_update(self, serializer):
         data = dict(serializer.validated_data)
         serializer.instance = finding_services.finding_update(
-            finding=serializer.instance, user=self.request.user, reason=data.pop("reason"),
+            finding=serializer.instance, user=self.request.user, reason=data.pop("reason", ""),
             **data,
         )
 

@@ -8,10 +8,15 @@ from rest_framework.test import APIClient
 from tests.conftest import make_user
 from tests.review.factories import assessed_process
 
+# What the demo's author group may change (the Django model permissions).
+AUTHOR_PERMS = ("add_reactionstep", "change_reactionstep", "delete_reactionstep",
+                "add_calorimetryrun", "change_calorimetryrun", "add_decompositiontest",
+                "change_decompositiontest", "add_process", "change_process")
+
 
 @pytest.fixture
 def author(db):
-    return make_user("author")
+    return make_user("author", perms=AUTHOR_PERMS)
 
 
 @pytest.fixture
