@@ -101,12 +101,12 @@ class ProblemError(exceptions.APIException):
 
 def problem_body(code: str, detail: str = "", *, instance: str | None = None,
                  errors: list[dict] | None = None, status: int | None = None, **extra) -> dict:
-    default_status, title, _ = PROBLEM_TYPES[code]
+    default_status, title, description = PROBLEM_TYPES[code]
     body = {
         "type": f"{PROBLEM_BASE}#{code}",
         "title": title,
         "status": status or default_status,
-        "detail": detail or title,
+        "detail": detail or description,
         "code": code,
     }
     if instance:

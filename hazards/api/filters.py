@@ -126,7 +126,7 @@ class TokenFilter(df.FilterSet):
     user = df.CharFilter(field_name="user__username", help_text="User name.")
     state = df.ChoiceFilter(
         method="filter_state",
-        choices=[("active", "active"), ("expired", "expired"), ("revoked", "revoked")],
+        choices=[("active", "active"), ("expired", "expired"), ("revoked", "revoked")],  # TOKEN_STATES
         help_text="active, expired or revoked.",
     )
     service_account = df.BooleanFilter(method="filter_service_account",

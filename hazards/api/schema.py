@@ -213,10 +213,13 @@ class ExoledgerAutoSchema(AutoSchema):
         params += extra.get(getattr(self.view, "action", None) or self.method.lower(), [])
         return params
 
-    def get_description(self):
-        text = super().get_description() or ""
-        perm = describe_permissions(self.view, self.method)
-        return f"{text}\n\n**Permission:** {perm}.".strip()
+    def get_operation(self, *args, **kwargs):
+        operation = super().get_operation(*args, **kwargs)
+        if operation is not None:
+            text = operation.get("description", "")
+            perm = describe_permissions(self.view, self.method)
+            operation["description"] = f"{text}\n\n**Permission:** {perm}.".strip()
+        return operation
 
     def _error_codes(self) -> dict[int, list[str]]:
         codes: dict[int, list[str]] = {400: ["validation_error", "parse_error", "bad_request"]}

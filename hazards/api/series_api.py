@@ -181,11 +181,13 @@ def _upload(request, run):
     if not form.is_valid():
         errors = flatten_errors(form.errors, request.data)
         if upload is not None:  # report the file's own problems in the same answer
+            upload.seek(0)
             preview = parser.parse_series(upload.read())
             errors += [p.as_dict() for p in preview.problems if p.code != "needs_feed_mass"]
         raise ProblemError("validation_error", summarise(errors), errors=errors)
     data = form.validated_data
     expected = expected_version(request, run) if request.headers.get("If-Match") else None
+    data["file"].seek(0)
     try:
         series, analysis = series_attach(
             run=run, file_name=os.path.basename(data["file"].name or "series.csv"),

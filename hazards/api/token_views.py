@@ -68,6 +68,9 @@ class TokenAdminPermission(permissions.BasePermission):
         return f"a staff account with `hazards.{needed}_apitoken`"
 
 
+TOKEN_STATES = [("active", "active"), ("expired", "expired"), ("revoked", "revoked")]
+
+
 class ApiTokenSerializer(serializers.ModelSerializer):
     user = serializers.CharField(source="user.username", read_only=True)
     service_account = serializers.SerializerMethodField()
@@ -82,7 +85,7 @@ class ApiTokenSerializer(serializers.ModelSerializer):
     def get_service_account(self, token) -> bool:
         return hasattr(token.user, "service_account")
 
-    @extend_schema_field(serializers.ChoiceField(choices=["active", "expired", "revoked"]))
+    @extend_schema_field(serializers.ChoiceField(choices=TOKEN_STATES))
     def get_state(self, token) -> str:
         if token.revoked_at is not None:
             return "revoked"

@@ -1,5 +1,5 @@
 from django.urls import include, path
-from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerView
+from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerSplitView
 from rest_framework.routers import DefaultRouter
 
 from hazards.api import views
@@ -18,7 +18,7 @@ router.register("tokens", ApiTokenViewSet, basename="apitoken")
 urlpatterns = [
     path("auth/token/", ObtainTokenView.as_view(), name="api-token"),
     path("schema/", SpectacularAPIView.as_view(), name="api-schema"),
-    path("docs/", SpectacularSwaggerView.as_view(url_name="api-schema"), name="api-docs"),
+    path("docs/", SpectacularSwaggerSplitView.as_view(url_name="api-schema"), name="api-docs"),
     path("problems/", views.ProblemTypesView.as_view(), name="api-problems"),
     path("", include("hazards.dossier.api")),
     path("", include(router.urls)),

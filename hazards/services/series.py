@@ -267,10 +267,6 @@ def parse_series(raw: bytes, *, feed_mass_kg: float | None = None,
         except ValueError as exc:
             rule, code = exc.args
             problems.add(1, cell, unit, rule, code)
-    if "dosed_mass" in columns and (feed_mass_kg is None or not feed_mass_kg > 0):
-        problems.add(1, columns["dosed_mass"][1], None,
-                     "a dosed_mass column needs the feed mass to give the dosed fraction",
-                     "needs_feed_mass")
     if problems:
         return problems.result()
 
@@ -310,6 +306,10 @@ def parse_series(raw: bytes, *, feed_mass_kg: float | None = None,
     elif len(row_numbers) == 1 and not problems:
         problems.add(row_numbers[0] + 1, None, None, "the file needs at least two data rows",
                      "no_rows")
+    if "dosed_mass" in columns and (feed_mass_kg is None or not feed_mass_kg > 0):
+        problems.add(1, columns["dosed_mass"][1], None,
+                     "a dosed_mass column needs the feed mass to give the dosed fraction",
+                     "needs_feed_mass")
     if problems:
         return problems.result()
 
