@@ -52,6 +52,9 @@ INSTALLED_APPS = [
     "hazards",
     "hazards.review",
     "hazards.integration",
+    "django_tasks",
+    "django_tasks_db",
+    "hazards.dossier",
 ]
 
 MIDDLEWARE = [
@@ -160,6 +163,15 @@ SPECTACULAR_SETTINGS = {
         "TokenStateEnum": "hazards.api.token_views.TOKEN_STATES",
     },
 }
+
+# Background work: the tasks API (django-tasks backport) with the database backend; run
+# `python manage.py db_worker` (docker-compose's worker service; `serve` starts one).
+TASKS = {"default": {"BACKEND": "django_tasks_db.DatabaseBackend", "QUEUES": ["default"]}}
+
+# Bounds of one dossier render (a child process: RLIMIT_AS, RLIMIT_CPU and a wall clock).
+DOSSIER_RENDER_TIMEOUT_SECONDS = env_int("EXOLEDGER_DOSSIER_TIMEOUT_SECONDS", 300, minimum=5)
+DOSSIER_RENDER_MEMORY_BYTES = env_int(
+    "EXOLEDGER_DOSSIER_MEMORY_MB", 2048, minimum=256) * 1024 * 1024
 
 # API tokens live this long unless a shorter life is asked for.
 API_TOKEN_TTL_HOURS = env_int("EXOLEDGER_API_TOKEN_TTL_HOURS", 24 * 30, minimum=1)
