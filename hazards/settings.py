@@ -161,6 +161,8 @@ SPECTACULAR_SETTINGS = {
     "ENUM_NAME_OVERRIDES": {
         "ReviewStateEnum": "hazards.review.models.ReviewState",
         "TokenStateEnum": "hazards.api.token_views.TOKEN_STATES",
+        "FindingStatusEnum": "hazards.review.models.FindingStatus",
+        "DossierStatusEnum": "hazards.dossier.models.DossierStatus",
     },
 }
 
