@@ -55,6 +55,10 @@ INSTALLED_APPS = [
     "django_tasks",
     "django_tasks_db",
     "hazards.dossier",
+    # Sign-in lockout: failures are recorded from Django's login signals; the sign-in page
+    # (hazards.web.auth) refuses a locked-out name before it authenticates (no Axes backend,
+    # so other callers of authenticate() keep working unchanged).
+    "axes",
 ]
 
 MIDDLEWARE = [
@@ -64,6 +68,8 @@ MIDDLEWARE = [
     "django.middleware.common.CommonMiddleware",
     "django.middleware.csrf.CsrfViewMiddleware",
     "django.contrib.auth.middleware.AuthenticationMiddleware",
+    "hazards.web.middleware.SessionExpiryMiddleware",
+    "django_htmx.middleware.HtmxMiddleware",
     "django.contrib.messages.middleware.MessageMiddleware",
     "django.middleware.clickjacking.XFrameOptionsMiddleware",
     "pghistory.middleware.HistoryMiddleware",
@@ -83,6 +89,7 @@ TEMPLATES = [
                 "django.contrib.auth.context_processors.auth",
                 "django.contrib.messages.context_processors.messages",
             ],
+            "libraries": {"exo": "hazards.web.tags"},
         },
     },
 ]
@@ -116,7 +123,18 @@ STATIC_URL = "static/"
 STATIC_ROOT = BASE_DIR / "var" / "static"
 STATICFILES_DIRS = [BASE_DIR / "hazards" / "static"]
 
-LOGIN_URL = "/admin/login/"
+LOGIN_URL = "/signin/"
+LOGIN_REDIRECT_URL = "/"
+
+# Sign-in lockout (INTEGRITY.md §2.6): 5 failures of one user name from one address lock it
+# for 15 minutes. Wrong passwords at signing count too (they pass through authenticate()).
+AXES_FAILURE_LIMIT = env_int("EXOLEDGER_SIGNIN_FAILURES", 5, minimum=1)
+AXES_COOLOFF_TIME = env_int("EXOLEDGER_SIGNIN_LOCK_MINUTES", 15, minimum=1) / 60  # hours
+AXES_LOCKOUT_PARAMETERS = [["username", "ip_address"]]
+AXES_RESET_ON_SUCCESS = True
+AXES_ENABLE_ACCESS_FAILURE_LOG = True
+# No AxesMiddleware or AxesBackend on purpose (see INSTALLED_APPS); silence their checks.
+SILENCED_SYSTEM_CHECKS = ["axes.W002", "axes.W003"]
 
 # Uploads: calorimeter files are small; anything bigger is refused, never streamed to disk.
 DATA_UPLOAD_MAX_MEMORY_SIZE = env_int("EXOLEDGER_MAX_UPLOAD_BYTES", 5 * 1024 * 1024, minimum=1024)
@@ -188,6 +206,9 @@ LOGGING = {
 SESSION_COOKIE_HTTPONLY = True
 CSRF_COOKIE_HTTPONLY = False
 SESSION_COOKIE_AGE = env_int("EXOLEDGER_SESSION_SECONDS", 8 * 3600, minimum=60)
+# Idle expiry of a signed-in session (INTEGRITY.md §2.3); SESSION_COOKIE_AGE is the absolute
+# lifetime. Both are enforced on the server by hazards.web.middleware.SessionExpiryMiddleware.
+SESSION_IDLE_SECONDS = env_int("EXOLEDGER_SESSION_IDLE_SECONDS", 30 * 60, minimum=60)
 X_FRAME_OPTIONS = "DENY"
 SECURE_CONTENT_TYPE_NOSNIFF = True
 if PRODUCTION:

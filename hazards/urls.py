@@ -1,12 +1,15 @@
 from django.contrib import admin
 from django.urls import include, path
 
+from hazards.web import auth as web_auth
 from hazards.web import views as web
 
 urlpatterns = [
-    path("", web.home, name="home"),
     path("healthz", web.healthz, name="healthz"),
+    # One place to sign in (with the lockout): the admin's login form redirects there.
+    path("admin/login/", web_auth.admin_login, name="admin-login-redirect"),
     path("admin/", admin.site.urls),
     path("api/v1/", include("hazards.review.urls")),
     path("api/v1/", include("hazards.api.urls")),
+    path("", include("hazards.web.urls")),
 ]

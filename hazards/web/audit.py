@@ -1,0 +1,155 @@
+"""Audit views: the history of each record (who, when, what, why), `verify` for auditors,
+and the dossiers of a process (request, status, download, check a PDF)."""
+
+from __future__ import annotations
+
+from django import forms
+from django.apps import apps
+from django.contrib import messages
+from django.contrib.auth.decorators import login_required
+from django.core.exceptions import PermissionDenied
+from django.core.paginator import Paginator
+from django.http import Http404, HttpResponse
+from django.shortcuts import get_object_or_404, redirect, render
+from django.views.decorators.http import require_POST
+
+from hazards.access import PROCESS_PATHS, REFERENCE_MODELS, is_administrator, processes_of, visible
+from hazards.fieldkinds import kinds_for
+from hazards.models import Process
+from hazards.review.models import Role
+from hazards.review.selectors import process_history, record_history
+from hazards.web import display
+from hazards.web.common import visible_or_404
+from hazards.web.forms import LABELS
+
+ONLY_AUDITORS = "Only auditors and administrators run the integrity check."
+
+
+def _rows_for_people(rows):
+    out = []
+    for row in rows:
+        model = apps.get_model(row["model"])
+        kinds = kinds_for(model)
+        changes = []
+        for field, change in row["changes"].items():
+            kind = kinds.get(field.removesuffix("_id"))
+            changes.append({
+                "field": LABELS.get(field, field.replace("_", " ")),
+                "from": display.quantity(change["from"], kind) if kind and isinstance(
+                    change["from"], int | float) else _plain(change["from"]),
+                "to": display.quantity(change["to"], kind) if kind and isinstance(
+                    change["to"], int | float) else _plain(change["to"]),
+            })
+        out.append({**row, "model_name": model._meta.verbose_name, "changes": changes})
+    return out
+
+
+def _plain(value):
+    if value in (None, ""):
+        return "—"
+    text = str(value)
+    return text if len(text) <= 120 else text[:117] + "…"
+
+
+@login_required
+def process_history_page(request, pk):
+    process = visible_or_404(request.user, Process.objects.select_related("site"), pk=pk)
+    rows = process_history(process)
+    rows.reverse()  # newest first
+    page = Paginator(rows, 50).get_page(request.GET.get("page"))
+    return render(request, "hazards/history.html", {
+        "process": process, "page": page, "rows": _rows_for_people(page.object_list),
+        "title": f"History of {process.name}",
+    })
+
+
+@login_required
+def record_history_page(request, label, pk):
+    if label not in PROCESS_PATHS and label not in REFERENCE_MODELS:
+        raise Http404
+    model = apps.get_model(label)
+    obj = get_object_or_404(visible(request.user, model._base_manager.all()), pk=pk)
+    rows = record_history(obj)
+    rows.reverse()
+    page = Paginator(rows, 50).get_page(request.GET.get("page"))
+    return render(request, "hazards/history.html", {
+        "page": page, "rows": _rows_for_people(page.object_list), "object": obj,
+        "title": f"History of {model._meta.verbose_name} {obj}",
+    })
+
+
+def is_auditor(user) -> bool:
+    return is_administrator(user) or processes_of(user, (Role.AUDITOR,)).exists()
+
+
+class VerifyPdfForm(forms.Form):
+    file = forms.FileField(label="Dossier PDF to check")
+
+
+@login_required
+def verify_page(request):
+    """The integrity check of the review app (`manage.py verify`), and a dossier PDF check."""
+    if not is_auditor(request.user):
+        raise PermissionDenied(ONLY_AUDITORS)
+    from hazards.review.audit import head_hash, verify_all
+
+    context = {"form": VerifyPdfForm(), "checked": None, "problems": None}
+    if request.method == "POST" and request.POST.get("action") == "verify":
+        context["problems"] = [str(p) for p in verify_all()]
+        context["head"] = head_hash()
+    elif request.method == "POST":
+        form = VerifyPdfForm(request.POST, request.FILES)
+        context["form"] = form
+        if form.is_valid():
+            from hazards.dossier.seal import verify_pdf
+
+            result = verify_pdf(form.cleaned_data["file"].read())
+            visible_ids = set(visible(request.user, Process.objects.all()).values_list(
+                "pk", flat=True))
+            if result.process_id is not None and result.process_id not in visible_ids:
+                result.process = ""  # the check still answers; the record stays private
+            context["checked"] = result
+    return render(request, "hazards/verify.html", context)
+
+
+def _dossiers_of(user):
+    from hazards.dossier.models import Dossier
+
+    return Dossier.objects.filter(process__in=visible(user, Process.objects.all()))
+
+
+@login_required
+@require_POST
+def dossier_request(request, pk):
+    from hazards.dossier.services import dossier_request as request_service
+
+    process = visible_or_404(request.user, Process.objects.all(), pk=pk)
+    dossier, created = request_service(process=process, requested_by=request.user,
+                                       reason=request.POST.get("reason", "")[:200])
+    messages.success(request, f"Dossier version {dossier.version} "
+                              f"{'requested' if created else 'already exists for this content'}.")
+    return redirect(f"/processes/{pk}/#dossiers")
+
+
+@login_required
+def dossier_status(request, pk):
+    dossier = get_object_or_404(_dossiers_of(request.user).defer("pdf"), pk=pk)
+    return render(request, "hazards/_dossier_row.html", {"dossier": dossier})
+
+
+@login_required
+def dossier_pdf(request, pk):
+    from hazards.dossier.models import DossierStatus
+
+    dossier = get_object_or_404(_dossiers_of(request.user), pk=pk)
+    if dossier.status != DossierStatus.DONE:
+        messages.error(request, f"Dossier version {dossier.version} is {dossier.status}.")
+        return redirect(f"/processes/{dossier.process_id}/#dossiers")
+    response = HttpResponse(bytes(dossier.pdf), content_type="application/pdf")
+    response["Content-Disposition"] = f'attachment; filename="{dossier.file_name}"'
+    response["Cache-Control"] = "private, no-store"
+    return response
+
+
+def not_found_redirect(request):  # pragma: no cover - convenience
+    return redirect("/")

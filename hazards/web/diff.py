@@ -1,0 +1,59 @@
+"""The difference between two revisions, written for people (labels and units)."""
+
+from __future__ import annotations
+
+import re
+
+from hazards.fieldkinds import QUANTITY_FIELDS
+from hazards.web import display
+from hazards.web.forms import LABELS
+
+# Collection in the revision content -> model name in hazards.fieldkinds.
+COLLECTIONS = {"steps": "reactionstep", "calorimetry_runs": "calorimetryrun",
+               "decomposition_tests": "decompositiontest", "peaks": "decompositionpeak",
+               "series": "calorimetryseries", "process": "process"}
+INDICATOR_KINDS = {"mtsr_k": "temperature", "mtt_k": "temperature", "td24_k": "temperature",
+                   "adiabatic_temperature_rise_k": "temperature_difference",
+                   "tmr_ad_at_mtsr_s": "duration_h", "cooling_capacity_w": "power",
+                   "plant_peak_heat_release_w": "power", "minimum_dosing_time_s": "time",
+                   "mtsr_time_s": "time", "end_pressure_pa": "pressure"}
+WHERE = {"steps": "step", "calorimetry_runs": "calorimetry run",
+         "decomposition_tests": "decomposition test", "peaks": "DSC peak", "series": "series"}
+_PART = re.compile(r"^([a-z_]+)(?:\[id=(\d+)\])?$")
+
+
+def _show(value, kind):
+    if isinstance(value, int | float) and not isinstance(value, bool) and kind:
+        return display.quantity(value, kind)
+    if isinstance(value, list | dict):
+        return f"{len(value)} item(s)"
+    return "—" if value in (None, "") else str(value)
+
+
+def humanise_diff(rows: list[dict]) -> list[dict]:
+    out = []
+    for row in rows:
+        parts = row["path"].split(".")
+        where, model, kind, field = [], None, None, parts[-1]
+        in_indicators = "indicators" in parts
+        for part in parts[:-1]:
+            match = _PART.match(part)
+            if not match:
+                continue
+            name, ident = match.groups()
+            if name in COLLECTIONS:
+                model = COLLECTIONS[name]
+                if name in WHERE:
+                    where.append(f"{WHERE[name]} {ident}" if ident else WHERE[name])
+        if in_indicators:
+            if field in ("inputs_hash", "computed_at") or "inputs" in parts:
+                continue  # the inputs themselves are listed as their own rows
+            kind = INDICATOR_KINDS.get(field)
+            label = f"indicator {field}"
+        else:
+            kind = QUANTITY_FIELDS.get(model or "", {}).get(field)
+            label = LABELS.get(field, field.replace("_", " "))
+        out.append({"where": ", ".join(where) or "process", "label": label,
+                    "change": row["change"], "from": _show(row["from"], kind),
+                    "to": _show(row["to"], kind), "path": row["path"]})
+    return out

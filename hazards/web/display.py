@@ -1,0 +1,81 @@
+"""How numbers, units, classes and states are written on the pages (one place)."""
+
+from __future__ import annotations
+
+import math
+
+from hazards.fieldkinds import kinds_for
+from hazards.quantities import SPECS, from_si
+
+# Units as people read them (the API keeps pint's spelling).
+HUMAN_UNIT = {
+    "degC": "°C",
+    "kJ/(kg*K)": "kJ/(kg·K)",
+    "W/(m**2*K)": "W/(m²·K)",
+    "m**3": "m³",
+    "m**2": "m²",
+    "dimensionless": "",
+}
+
+
+def human_unit(kind: str) -> str:
+    unit = SPECS[kind].canonical_unit
+    return HUMAN_UNIT.get(unit, unit)
+
+
+def number(value, digits: int = 4) -> str:
+    """A float with `digits` significant digits, without an exponent in the usual range."""
+    if value is None:
+        return "—"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if not isinstance(value, int | float):
+        return str(value)
+    if not math.isfinite(value):
+        return "not finite"
+    if value == 0:
+        return "0"
+    magnitude = math.floor(math.log10(abs(value)))
+    if -4 <= magnitude < 7:
+        decimals = max(digits - 1 - magnitude, 0)
+        text = f"{value:.{decimals}f}"
+        if "." in text:
+            text = text.rstrip("0").rstrip(".")
+        return text
+    return f"{value:.{digits - 1}e}"
+
+
+def quantity(si_value, kind: str | None) -> str:
+    """An SI magnitude written in the field's canonical unit, e.g. '45 °C'."""
+    if si_value is None:
+        return "—"
+    if kind is None:
+        return number(si_value)
+    shown = from_si(float(si_value), kind=kind)
+    unit = human_unit(kind)
+    return f"{number(shown)} {unit}".strip()
+
+
+def field_kind(model, field_name: str) -> str | None:
+    return kinds_for(model).get(field_name)
+
+
+# Criticality classes: a word, a shape and a colour, so grey-scale print and colour-blind
+# readers get the same message as everyone else.
+CLASS_TEXT = {
+    1: ("Class 1", "lowest concern", "circle"),
+    2: ("Class 2", "low concern", "square"),
+    3: ("Class 3", "medium concern", "triangle"),
+    4: ("Class 4", "high concern", "diamond"),
+    5: ("Class 5", "highest concern", "octagon"),
+}
+
+STATE_TEXT = {
+    "drafting": "Draft",
+    "lodged": "Lodged for review",
+    "checked": "Checked",
+    "endorsed": "Endorsed",
+    "sent_back": "Sent back",
+    "replaced": "Replaced",
+    "none": "No revision",
+}

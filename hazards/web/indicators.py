@@ -1,0 +1,150 @@
+"""The indicators and inputs of a step as the step page shows them."""
+
+from __future__ import annotations
+
+import base64
+
+from hazards.models import (
+    CalorimetryRun,
+    CalorimetrySeries,
+    DecompositionTest,
+    ReactionStep,
+    Solvent,
+    Vessel,
+)
+from hazards.review.selectors import record_history
+from hazards.web import display
+from hazards.web.forms import LABELS
+
+try:  # the dossier's labels, so a page and its dossier say the same thing
+    from hazards.dossier.view import method_label
+except ImportError:  # pragma: no cover - the dossier app is optional for the pages
+    def method_label(key: str) -> str:
+        return key
+
+# (snapshot value key, label, quantity kind or None, method key, words that tie warnings to it)
+INDICATORS = [
+    ("adiabatic_temperature_rise_k", "Adiabatic temperature rise ΔTad", "temperature_difference",
+     "adiabatic_temperature_rise", ("ΔTad", "adiabatic")),
+    ("mtsr_k", "MTSR (maximum temperature of the synthesis reaction)", "temperature", "mtsr",
+     ("MTSR",)),
+    ("mtsr_time_s", "Time of the MTSR maximum", "time", "mtsr", ()),
+    ("mtt_k", "MTT (maximum technical temperature)", "temperature", "mtt", ("MTT", "boiling")),
+    ("td24_k", "TD24 (TMRad = 24 h)", "temperature", "td24", ("TD24", "onset")),
+    ("tmr_ad_at_mtsr_s", "TMRad at MTSR", "duration_h", "tmr_ad_at_mtsr", ("TMRad", "B =")),
+    ("severity", "Severity", None, "severity", ("severity",)),
+    ("probability", "Probability", None, "probability", ("probability",)),
+    ("risk_cell", "Risk-matrix cell", None, "risk_cell", ("risk",)),
+    ("cooling_capacity_w", "Cooling capacity", "power", "cooling_capacity", ("cooling",)),
+    ("plant_peak_heat_release_w", "Peak heat release at plant scale", "power",
+     "plant_peak_heat_release", ("peak",)),
+    ("cooling_margin", "Cooling margin (capacity / peak)", None, "cooling_margin", ("margin",)),
+    ("minimum_dosing_time_s", "Minimum dosing time", "time", "minimum_dosing_time", ("dosing",)),
+    ("end_pressure_pa", "Pressure at MTSR (closed vessel)", "pressure", "end_pressure",
+     ("pressure", "relief")),
+]
+KEY_INDICATORS = ("mtsr_k", "mtt_k", "td24_k", "tmr_ad_at_mtsr_s")
+
+
+def indicator_rows(snapshot) -> list[dict]:
+    if snapshot is None:
+        return []
+    values, methods = snapshot.values, snapshot.methods
+    warnings = [str(w) for w in snapshot.warnings]
+    rows = []
+    for key, label, kind, method, words in INDICATORS:
+        if key not in values and method not in methods:
+            continue
+        value = values.get(key)
+        shown = display.quantity(value, kind) if kind else (
+            display.number(value) if isinstance(value, int | float) else (value or "—"))
+        method_key = methods.get(method, "")
+        rows.append({
+            "key": key, "label": label, "value": shown, "method": method_label(method_key)
+            if method_key else "—", "method_key": method_key,
+            "warnings": [w for w in warnings if any(word.lower() in w.lower() for word in words)]
+            if words else [],
+        })
+    return rows
+
+
+def _last_changes(obj) -> dict[str, dict]:
+    """field -> the audit row that last set it (who, when, why)."""
+    last: dict[str, dict] = {}
+    for row in record_history(obj):
+        for field in row["changes"]:
+            last[field] = row
+    return last
+
+
+MODEL_SOURCE = {
+    ReactionStep: "the step",
+    CalorimetryRun: "calorimetry run",
+    DecompositionTest: "decomposition test",
+    Vessel: "vessel",
+    Solvent: "solvent",
+}
+SKIP = {"id", "created_at", "updated_at", "version", "needs_review", "approved_inputs_hash",
+        "raw_file", "raw_file_sha256", "process_id", "step_id", "notes", "name", "sequence",
+        "solvent_id", "vessel_id", "tag"}
+
+
+def input_rows(obj, *, provenance_note: str = "") -> list[dict]:
+    """Every stored input of a record with its unit and where it came from."""
+    if obj is None:
+        return []
+    history = _last_changes(obj)
+    series = None
+    if isinstance(obj, CalorimetryRun):
+        series = CalorimetrySeries.objects.filter(run=obj).only("file_name", "sha256").first()
+    rows = []
+    for field in obj._meta.concrete_fields:
+        if field.attname in SKIP or field.attname.startswith("antoine_") and isinstance(
+                obj, Solvent) and getattr(obj, field.attname) in (None, ""):
+            continue
+        value = getattr(obj, field.attname)
+        kind = display.field_kind(type(obj), field.name)
+        if field.choices:
+            shown = getattr(obj, f"get_{field.name}_display")()
+        elif kind:
+            shown = display.quantity(value, kind)
+        elif isinstance(value, bool):
+            shown = "yes" if value else "no"
+        else:
+            shown = "—" if value in (None, "") else str(value)
+        change = history.get(field.attname)
+        source = "entered"
+        if series is not None and field.attname in ("specific_reaction_heat_j_per_kg",
+                                                    "max_accumulation"):
+            source = f"derived from calorimeter file {series.file_name} (SHA-256 {series.sha256[:12]}…)"
+        rows.append({
+            "field": field.attname,
+            "label": LABELS.get(field.attname, field.verbose_name.capitalize()),
+            "value": shown,
+            "unit_kind": kind,
+            "source": source,
+            "by": (change or {}).get("user") or "—",
+            "at": (change or {}).get("at"),
+            "reason": (change or {}).get("reason") or "",
+        })
+    return rows
+
+
+def chart_images(snapshot, series_data: dict | None) -> list[dict]:
+    """The dossier's charts of a step, as images (data: URIs keep the page's CSP strict)."""
+    try:
+        from hazards.dossier.charts import step_charts
+    except ImportError:  # pragma: no cover
+        return []
+    if snapshot is None:
+        return []
+    titles = {"cooling_failure": "Cooling-failure scenario: Tp, MTSR, MTT and TD24",
+              "accumulation": "Accumulation and MTSR over the dosing",
+              "tmr": "TMRad against temperature",
+              "heat_release": "Heat release against cooling capacity"}
+    out = []
+    for name, svg in step_charts(snapshot, series_data).items():
+        encoded = base64.b64encode(svg.encode("utf-8")).decode("ascii")
+        out.append({"name": name, "title": titles.get(name, name.replace("_", " ")),
+                    "src": f"data:image/svg+xml;base64,{encoded}"})
+    return out

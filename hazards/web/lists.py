@@ -1,0 +1,95 @@
+"""Lists of processes and steps: filters, sorting and pagination that live in the URL."""
+
+from __future__ import annotations
+
+from django.contrib.auth.decorators import login_required
+from django.core.paginator import Paginator
+from django.db.models import F
+from django.shortcuts import render
+
+from hazards.models import Site
+from hazards.models.process import OperationMode
+from hazards.review.models import ReviewState
+from hazards.web import selectors
+from hazards.web.display import CLASS_TEXT, STATE_TEXT
+
+PAGE_SIZE = 20
+
+PROCESS_SORTS = {
+    "name": ("Name", [F("name").asc()]),
+    "-name": ("Name, Z to A", [F("name").desc()]),
+    "site": ("Site", [F("site__code").asc(), F("name").asc()]),
+    "state": ("Review state", [F("review_state").asc(nulls_first=True), F("name").asc()]),
+    "-updated": ("Recently changed", [F("updated_at").desc()]),
+}
+STEP_SORTS = {
+    "process": ("Process, then sequence", [F("process__name").asc(), F("sequence").asc()]),
+    "-klass": ("Class, highest first", [F("klass").desc(nulls_last=True), F("process__name").asc(),
+                                        F("sequence").asc()]),
+    "klass": ("Class, lowest first", [F("klass").asc(nulls_last=True), F("process__name").asc(),
+                                      F("sequence").asc()]),
+    "name": ("Step name", [F("name").asc()]),
+    "-updated": ("Recently changed", [F("updated_at").desc()]),
+}
+
+
+def _page(request, queryset):
+    paginator = Paginator(queryset, PAGE_SIZE)
+    return paginator.get_page(request.GET.get("page"))
+
+
+def _choice(value, allowed, default=""):
+    return value if value in allowed else default
+
+
+@login_required
+def process_list(request):
+    g = request.GET
+    qs = selectors.processes_with_state(request.user)
+    filters = {
+        "q": g.get("q", "").strip()[:100],
+        "site": _choice(g.get("site", ""), set(Site.objects.values_list("code", flat=True))),
+        "state": _choice(g.get("state", ""), {*ReviewState.values, "none"}),
+        "sort": _choice(g.get("sort", ""), PROCESS_SORTS, "name"),
+    }
+    qs = selectors.search(qs, filters["q"], "name", "description")
+    if filters["site"]:
+        qs = qs.filter(site__code=filters["site"])
+    if filters["state"] == "none":
+        qs = qs.filter(review_state__isnull=True)
+    elif filters["state"]:
+        qs = qs.filter(review_state=filters["state"])
+    qs = qs.order_by(*PROCESS_SORTS[filters["sort"]][1], "pk")
+    return render(request, "hazards/process_list.html", {
+        "page": _page(request, qs), "filters": filters, "sorts": PROCESS_SORTS,
+        "sites": Site.objects.all(),
+        "states": [(k, STATE_TEXT[k]) for k in [*ReviewState.values, "none"]],
+    })
+
+
+@login_required
+def step_list(request):
+    g = request.GET
+    qs = selectors.steps_with_class(request.user)
+    filters = {
+        "q": g.get("q", "").strip()[:100],
+        "klass": _choice(g.get("klass", ""), {"1", "2", "3", "4", "5", "none"}),
+        "mode": _choice(g.get("mode", ""), set(OperationMode.values)),
+        "needs_review": "1" if g.get("needs_review") == "1" else "",
+        "sort": _choice(g.get("sort", ""), STEP_SORTS, "process"),
+    }
+    qs = selectors.search(qs, filters["q"], "name", "process__name")
+    if filters["klass"] == "none":
+        qs = qs.filter(klass__isnull=True)
+    elif filters["klass"]:
+        qs = qs.filter(klass=int(filters["klass"]))
+    if filters["mode"]:
+        qs = qs.filter(operation_mode=filters["mode"])
+    if filters["needs_review"]:
+        qs = qs.filter(needs_review=True)
+    qs = qs.order_by(*STEP_SORTS[filters["sort"]][1], "pk")
+    return render(request, "hazards/step_list.html", {
+        "page": _page(request, qs), "filters": filters, "sorts": STEP_SORTS,
+        "classes": [(str(k), v[0]) for k, v in CLASS_TEXT.items()] + [("none", "Not assigned")],
+        "modes": OperationMode.choices,
+    })

@@ -1,0 +1,254 @@
+"""Review and sign-off pages, built on the review app's services (hazards.review)."""
+
+from __future__ import annotations
+
+import datetime as dt
+
+from django import forms
+from django.contrib import messages
+from django.contrib.auth import get_user_model
+from django.contrib.auth.decorators import login_required
+from django.shortcuts import get_object_or_404, redirect, render
+from django.views.decorators.debug import sensitive_post_parameters
+from django.views.decorators.http import require_POST
+
+from hazards.access import roles_on
+from hazards.models import Process
+from hazards.review import errors as E
+from hazards.review.models import (
+    OPEN_STATES,
+    Finding,
+    FindingKind,
+    FindingStatus,
+    Meaning,
+    ProcessRevision,
+    ProcessRole,
+    ReviewState,
+    Role,
+    Signature,
+)
+from hazards.review.selectors import content_diff
+from hazards.review.services import findings as finding_services
+from hazards.review.services import revisions as rev
+from hazards.review.signing import printed_name
+from hazards.web.common import visible_or_404
+from hazards.web.diff import humanise_diff
+
+# The signature the next step of a revision needs: state -> (meaning, role).
+NEXT_SIGNATURE = {
+    ReviewState.DRAFTING: (Meaning.AUTHORED, Role.AUTHOR),
+    ReviewState.LODGED: (Meaning.REVIEWED, Role.REVIEWER),
+    ReviewState.CHECKED: (Meaning.APPROVED, Role.APPROVER),
+}
+SIGN_VERB = {Meaning.AUTHORED: "Submit for review (sign as author)",
+             Meaning.REVIEWED: "Sign as reviewer",
+             Meaning.APPROVED: "Sign as approver (endorse)"}
+
+
+def review_actions(user, process, revision) -> dict:
+    """What this person may do to the process's review now."""
+    roles = roles_on(user, process.pk)
+    actions = {"sign": None, "send_back": False, "open": False, "raise_finding": False}
+    if revision is not None and revision.state in NEXT_SIGNATURE:
+        meaning, role = NEXT_SIGNATURE[revision.state]
+        already = revision.signatures.filter(signer=user).exists()
+        if role in roles and not already:
+            actions["sign"] = {"meaning": meaning, "label": Meaning(meaning).label,
+                               "verb": SIGN_VERB[meaning]}
+        if revision.state == ReviewState.LODGED and roles & {Role.REVIEWER, Role.APPROVER}:
+            actions["send_back"] = True
+        if revision.state == ReviewState.CHECKED and Role.APPROVER in roles:
+            actions["send_back"] = True
+    open_exists = ProcessRevision.objects.filter(process=process, state__in=OPEN_STATES).exists()
+    actions["open"] = Role.AUTHOR in roles and not open_exists
+    actions["raise_finding"] = bool(roles & {Role.REVIEWER, Role.APPROVER})
+    return actions
+
+
+class SignForm(forms.Form):
+    meaning = forms.ChoiceField(choices=Meaning.choices, widget=forms.HiddenInput)
+    password = forms.CharField(label="Your password", strip=False, widget=forms.PasswordInput(
+        attrs={"autocomplete": "current-password", "required": True}))
+    reason = forms.CharField(label="Comment (optional)", required=False, max_length=500,
+                             widget=forms.Textarea(attrs={"rows": 2}))
+
+
+class SendBackForm(forms.Form):
+    reason = forms.CharField(label="Why it goes back to the author", max_length=2000,
+                             widget=forms.Textarea(attrs={"rows": 3, "required": True}))
+
+
+class FindingForm(forms.Form):
+    title = forms.CharField(label="Finding", max_length=200)
+    description = forms.CharField(label="Details", required=False,
+                                  widget=forms.Textarea(attrs={"rows": 3}))
+    kind = forms.ChoiceField(label="Kind", choices=FindingKind.choices)
+    owner = forms.ModelChoiceField(label="Action owner", queryset=get_user_model().objects.none())
+    due_date = forms.DateField(label="Due date", widget=forms.DateInput(attrs={"type": "date"}))
+
+    def __init__(self, *args, process, **kwargs):
+        super().__init__(*args, **kwargs)
+        ids = ProcessRole.objects.filter(process=process).values("user_id")
+        self.fields["owner"].queryset = get_user_model().objects.filter(pk__in=ids).order_by(
+            "username")
+        self.fields["owner"].label_from_instance = lambda u: f"{printed_name(u)} ({u.username})"
+        if not self.is_bound:
+            self.initial["due_date"] = dt.date.today() + dt.timedelta(days=28)
+
+
+class FindingUpdateForm(forms.Form):
+    status = forms.ChoiceField(label="New status", choices=FindingStatus.choices)
+    reason = forms.CharField(label="Reason (what was done)", max_length=1000,
+                             widget=forms.Textarea(attrs={"rows": 2}))
+
+
+def last_approved(process, exclude=None):
+    qs = ProcessRevision.objects.filter(process=process, signatures__meaning=Meaning.APPROVED)
+    if exclude is not None:
+        qs = qs.exclude(pk=exclude.pk)
+    return qs.order_by("-number").first()
+
+
+def _review_context(request, process, revision, **extra):
+    baseline = last_approved(process, exclude=revision) if revision else None
+    diff = None
+    if revision is not None and baseline is not None:
+        diff = humanise_diff(content_diff(baseline.content, revision.content))
+    user = request.user
+    context = {
+        "process": process, "revision": revision, "baseline": baseline, "diff": diff,
+        "signatures": Signature.objects.filter(revision=revision).select_related("signer")
+        if revision else [],
+        "transitions": revision.transitions.select_related("actor").order_by("at", "id")
+        if revision else [],
+        "findings": Finding.objects.filter(process=process).select_related(
+            "owner", "raised_by").order_by("status", "due_date"),
+        "actions": review_actions(user, process, revision),
+        "printed_name": printed_name(user),
+        "now": dt.datetime.now(dt.UTC),
+        "finding_form": FindingForm(process=process),
+        "shows_indicators": True,
+    }
+    if context["actions"]["sign"]:
+        context.setdefault("sign_form", SignForm(initial={
+            "meaning": context["actions"]["sign"]["meaning"]}))
+    context.setdefault("send_back_form", SendBackForm())
+    context.update(extra)
+    return context
+
+
+@login_required
+def review_page(request, pk):
+    process = visible_or_404(request.user, Process.objects.select_related("site"), pk=pk)
+    revision = rev.current_revision(process)
+    return render(request, "hazards/review.html", _review_context(request, process, revision))
+
+
+def _revision(request, pk) -> ProcessRevision:
+    revision = get_object_or_404(ProcessRevision.objects.select_related("process"), pk=pk)
+    visible_or_404(request.user, Process.objects.all(), pk=revision.process_id)
+    return revision
+
+
+@sensitive_post_parameters("password")
+@login_required
+@require_POST
+def sign(request, pk):
+    revision = _revision(request, pk)
+    process = revision.process
+    form = SignForm(request.POST)
+    if not form.is_valid():
+        return render(request, "hazards/review.html", _review_context(
+            request, process, revision, sign_form=form), status=400)
+    try:
+        rev.revision_sign(revision=revision, user=request.user,
+                          password=form.cleaned_data["password"],
+                          meaning=form.cleaned_data["meaning"], request=request,
+                          reason=form.cleaned_data["reason"])
+    except E.ReviewError as exc:
+        form.add_error("password" if isinstance(exc, E.SignatureRefused) else None, exc.message)
+        revision.refresh_from_db()
+        return render(request, "hazards/review.html", _review_context(
+            request, process, revision, sign_form=form), status=exc.status)
+    messages.success(request, f"Signed: {Meaning(form.cleaned_data['meaning']).label}.")
+    return redirect("web-review", pk=process.pk)
+
+
+@login_required
+@require_POST
+def send_back(request, pk):
+    revision = _revision(request, pk)
+    form = SendBackForm(request.POST)
+    if form.is_valid():
+        try:
+            rev.revision_send_back(revision=revision, user=request.user,
+                                   reason=form.cleaned_data["reason"])
+        except E.ReviewError as exc:
+            form.add_error(None, exc.message)
+        else:
+            messages.success(request, "Sent back to the author; a new draft is open.")
+            return redirect("web-review", pk=revision.process_id)
+    return render(request, "hazards/review.html", _review_context(
+        request, revision.process, revision, send_back_form=form), status=400)
+
+
+@login_required
+@require_POST
+def open_revision(request, pk):
+    process = visible_or_404(request.user, Process.objects.all(), pk=pk)
+    try:
+        rev.revision_open(process=process, user=request.user,
+                          reason=request.POST.get("reason", "").strip()[:500])
+    except E.ReviewError as exc:
+        messages.error(request, exc.message)
+    else:
+        messages.success(request, "A new draft revision is open.")
+    return redirect("web-review", pk=process.pk)
+
+
+@login_required
+@require_POST
+def finding_raise(request, pk):
+    process = visible_or_404(request.user, Process.objects.all(), pk=pk)
+    form = FindingForm(request.POST, process=process)
+    revision = rev.current_revision(process)
+    if form.is_valid():
+        try:
+            finding_services.finding_raise(process=process, user=request.user,
+                                           revision=revision, **form.cleaned_data)
+        except E.ReviewError as exc:
+            form.add_error(None, exc.message)
+        else:
+            messages.success(request, "Finding recorded.")
+            return redirect("web-review", pk=process.pk)
+    return render(request, "hazards/review.html", _review_context(
+        request, process, revision, finding_form=form), status=400)
+
+
+@login_required
+def finding_detail(request, pk):
+    finding = get_object_or_404(Finding.objects.select_related("process", "owner", "raised_by"),
+                                pk=pk)
+    visible_or_404(request.user, Process.objects.all(), pk=finding.process_id)
+    form = FindingUpdateForm(request.POST or None, initial={"status": finding.status})
+    status = 200
+    if request.method == "POST":
+        if form.is_valid():
+            try:
+                finding_services.finding_update(finding=finding, user=request.user,
+                                                reason=form.cleaned_data["reason"],
+                                                status=form.cleaned_data["status"])
+            except E.ReviewError as exc:
+                form.add_error(None, exc.message)
+                status = exc.status
+            else:
+                messages.success(request, "Finding updated.")
+                return redirect("web-review", pk=finding.process_id)
+        else:
+            status = 400
+    from hazards.review.selectors import record_history
+
+    return render(request, "hazards/finding.html", {
+        "finding": finding, "form": form, "history": record_history(finding),
+        "process": finding.process, "today": dt.date.today(),
+    }, status=status)

@@ -1,0 +1,46 @@
+"""Routes of the browser application (included at the root by hazards.urls)."""
+
+from django.urls import path
+
+from hazards.web import audit, auth, edit, lists, review, upload, views
+
+urlpatterns = [
+    path("", views.home, name="home"),
+    path("signin/", auth.signin, name="signin"),
+    path("signout/", auth.signout, name="signout"),
+    path("processes/", lists.process_list, name="web-processes"),
+    path("processes/new/", edit.process_new, name="web-process-new"),
+    path("processes/<int:pk>/", views.process_detail, name="web-process"),
+    path("processes/<int:pk>/edit/", edit.process_edit, name="web-process-edit"),
+    path("processes/<int:pk>/steps/new/", edit.step_new, name="web-step-new"),
+    path("processes/<int:pk>/review/", review.review_page, name="web-review"),
+    path("processes/<int:pk>/revisions/open/", review.open_revision, name="web-revision-open"),
+    path("processes/<int:pk>/findings/new/", review.finding_raise, name="web-finding-new"),
+    path("processes/<int:pk>/history/", audit.process_history_page, name="web-process-history"),
+    path("processes/<int:pk>/dossiers/new/", audit.dossier_request, name="web-dossier-new"),
+    path("revisions/<int:pk>/sign/", review.sign, name="web-sign"),
+    path("revisions/<int:pk>/send-back/", review.send_back, name="web-send-back"),
+    path("findings/<int:pk>/", review.finding_detail, name="web-finding"),
+    path("steps/", lists.step_list, name="web-steps"),
+    path("steps/<int:pk>/", views.step_detail, name="web-step"),
+    path("steps/<int:pk>/edit/", edit.step_edit, name="web-step-edit"),
+    path("steps/<int:pk>/calorimetry/new/", edit.calorimetry_new, name="web-calorimetry-new"),
+    path("steps/<int:pk>/calorimetry/upload/", upload.upload, name="web-upload"),
+    path("steps/<int:pk>/calorimetry/upload/preview/", upload.preview, name="web-upload-preview"),
+    path("steps/<int:pk>/calorimetry/upload/confirm/", upload.confirm, name="web-upload-confirm"),
+    path("steps/<int:pk>/decomposition/new/", edit.decomposition_new,
+         name="web-decomposition-new"),
+    path("calorimetry/<int:pk>/edit/", edit.calorimetry_edit, name="web-calorimetry-edit"),
+    path("decomposition/<int:pk>/edit/", edit.decomposition_edit, name="web-decomposition-edit"),
+    path("vessels/", edit.reference_list, {"kind": "vessels"}, name="web-vessels"),
+    path("vessels/new/", edit.vessel_new, name="web-vessel-new"),
+    path("vessels/<int:pk>/edit/", edit.vessel_edit, name="web-vessel-edit"),
+    path("solvents/", edit.reference_list, {"kind": "solvents"}, name="web-solvents"),
+    path("solvents/new/", edit.solvent_new, name="web-solvent-new"),
+    path("solvents/<int:pk>/edit/", edit.solvent_edit, name="web-solvent-edit"),
+    path("validate/<slug:key>/", edit.validate_field, name="web-validate"),
+    path("history/<str:label>/<int:pk>/", audit.record_history_page, name="web-record-history"),
+    path("audit/verify/", audit.verify_page, name="web-verify"),
+    path("dossiers/<int:pk>/status/", audit.dossier_status, name="web-dossier-status"),
+    path("dossiers/<int:pk>/pdf/", audit.dossier_pdf, name="web-dossier-pdf"),
+]
