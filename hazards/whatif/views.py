@@ -1,0 +1,169 @@
+"""The what-if page of a step, its fragment (refreshed as the sliders move) and the apply form.
+
+The page works without JavaScript (a GET form renders the results server-side);
+`static/whatif/whatif.js` replaces the result fragment in place as the inputs change.
+"""
+
+from __future__ import annotations
+
+from django.contrib import messages
+from django.contrib.auth.decorators import login_required
+from django.core.exceptions import ValidationError
+from django.http import HttpResponseForbidden
+from django.shortcuts import get_object_or_404, redirect, render
+from django.urls import reverse
+from django.views.decorators.http import require_POST
+
+from hazards.access import can_edit_process, visible
+from hazards.models import ReactionStep
+from hazards.quantities import QuantityError, parse_quantity
+from hazards.services.records import StaleRecord
+from hazards.whatif import charts, services
+
+C = 273.15
+
+
+def _step(request, pk):
+    return get_object_or_404(
+        visible(request.user, ReactionStep.objects.select_related("process")), pk=pk)
+
+
+def _entered(request, name: str, kind: str, errors: dict):
+    """The text input unless left as shown, then the slider (a number in the canonical unit)."""
+    text = (request.GET.get(name) or "").strip()
+    shown = (request.GET.get(f"{name}_shown") or "").strip()
+    slider = (request.GET.get(f"{name}_slider") or "").strip()
+    raw = text if text and text != shown else (slider or text)
+    if not raw:
+        return None
+    try:
+        return parse_quantity(raw, field=name, kind=kind)
+    except QuantityError as exc:
+        errors[name] = f"{raw!r}: {exc.rule}"
+        return None
+
+
+def _fmt(value, digits=4):
+    return "–" if value is None else f"{value:.{digits}g}"
+
+
+def build_context(request, step) -> dict:
+    """Everything the page and the fragment show; computes, never saves."""
+    errors: dict[str, str] = {}
+    td = _entered(request, "dosing_time", "time", errors)
+    tp = _entered(request, "process_temperature", "temperature", errors)
+    ea = _entered(request, "activation_energy", "molar_energy", errors)
+    ctx = {"step": step, "errors": errors, "can_edit": can_edit_process(request.user,
+                                                                        step.process_id)}
+    try:
+        case, rows = services.load(step.pk)
+        model = services.build_model(case, rows, activation_energy_j_per_mol=ea)
+        ranges = services.default_ranges(case, model)
+        td = td or step.dosing_time_s or model.anchor_dosing_time_s
+        tp = tp or step.process_temperature_k
+        point = services.evaluate(case, model, dosing_time_s=td, process_temperature_k=tp)
+        win = services.window(case, model, **ranges)
+    except services.WhatIfRefused as exc:
+        ctx["refused"] = f"{exc.field}: {exc.rule}" if exc.field else exc.rule
+        return ctx
+    g = win.grid
+    table = []
+    for i, temp in enumerate(g.temperatures_k):
+        table.append({"temperature": f"{temp - C:.1f}", "cells": [
+            {"cls": int(g.criticality_class[i, j]) or "–", "margin": _fmt(g.cooling_margin[i, j],
+                                                                         3),
+             "ok": bool(g.safe[i, j])} for j in range(g.dosing_times_s.size)]})
+    fast_i = int(abs(g.temperatures_k - tp).argmin())
+    fast = g.fastest_safe_dosing_time_s[fast_i]
+    ctx.update({
+        "point": point, "window": win, "model": model,
+        "window_img": charts.data_uri(charts.window_svg(win, chosen=point)),
+        "profile_img": charts.data_uri(charts.profile_svg(point)),
+        "td_min": f"{td / 60:.4g}", "tp_c": f"{tp - C:.2f}",
+        "td_text": f"{td / 60:.4g} min", "tp_text": f"{tp - C:.2f} degC",
+        "ea_text": request.GET.get("activation_energy", ""),
+        "slider": {"td_lo": f"{ranges['dosing_time_min_s'] / 60:.0f}",
+                   "td_hi": f"{ranges['dosing_time_max_s'] / 60:.0f}",
+                   "tp_lo": f"{ranges['temperature_min_k'] - C - 10:.0f}",
+                   "tp_hi": f"{ranges['temperature_max_k'] - C + 10:.0f}",
+                   "tp_fixed": model.activation_energy_j_per_mol is None},
+        "numbers": [
+            ("Dosing time", f"{td / 60:.4g} min"),
+            ("Process temperature", f"{tp - C:.2f} °C"),
+            ("Rate constant k at this temperature", f"{point.rate_constant_per_s * 60:.4g} 1/min"),
+            ("Maximum accumulation a(t_d)", f"{point.max_accumulation:.3f}"),
+            ("Accumulation on the mass basis (gives max MTSR)",
+             f"{point.effective_accumulation:.3f}"),
+            ("MTSR (maximum over time)", "–" if point.mtsr_k is None else
+             f"{point.mtsr_k - C:.1f} °C at {point.mtsr_time_s / 60:.3g} min"),
+            ("Peak heat release, plant", "–" if point.peak_heat_release_w is None else
+             f"{point.peak_heat_release_w / 1000:.4g} kW"),
+            ("Cooling capacity", "–" if point.cooling_capacity_w is None else
+             f"{point.cooling_capacity_w / 1000:.4g} kW"),
+            ("Cooling margin", f"{_fmt(point.cooling_margin, 3)} (site minimum "
+             f"{point.minimum_cooling_margin:g})"),
+            ("TMRad at MTSR", "–" if point.tmr_ad_at_mtsr_s is None else
+             f"{point.tmr_ad_at_mtsr_s / 3600:.3g} h"),
+            ("MTT", "–" if point.mtt_k is None else f"{point.mtt_k - C:.1f} °C"),
+            ("TD24", "–" if point.td24_k is None else f"{point.td24_k - C:.1f} °C"),
+            ("Criticality class", point.criticality_class or "not assigned"),
+            ("Fastest acceptable dosing time at this temperature (grid)",
+             "none on the grid" if fast != fast else f"{fast / 60:.4g} min"),
+        ],
+        "table": table, "table_dosing": [f"{t / 60:.0f}" for t in g.dosing_times_s],
+        "fit": model.fit,
+        "model_line": (
+            f"k = {model.rate_constant_per_s * 60:.4g} 1/min at "
+            f"{model.reference_temperature_k - C:.2f} °C; E_a "
+            + ("not known" if model.activation_energy_j_per_mol is None else
+               f"{model.activation_energy_j_per_mol / 1000:.4g} kJ/mol "
+               f"({model.activation_energy_source})")
+            + f"; peak factor {model.peak_scale:.3g}"),
+        "residual_rms": None if model.fit is None else
+        float((model.fit.residuals_w ** 2).mean() ** 0.5),
+    })
+    return ctx
+
+
+@login_required
+def page(request, pk: int):
+    step = _step(request, pk)
+    return render(request, "whatif/page.html", build_context(request, step))
+
+
+@login_required
+def fragment(request, pk: int):
+    step = _step(request, pk)
+    return render(request, "whatif/fragment.html", build_context(request, step))
+
+
+@login_required
+@require_POST
+def apply(request, pk: int):
+    """Turn the chosen point into a change of the step (the normal edit, never a bypass)."""
+    step = _step(request, pk)
+    if not can_edit_process(request.user, step.process_id):
+        return HttpResponseForbidden("You have no role on this process that allows this change.")
+    back = reverse("whatif-page", args=[step.pk])
+    try:
+        td = parse_quantity(request.POST.get("dosing_time", ""), field="dosing_time", kind="time")
+        tp = parse_quantity(request.POST.get("process_temperature", ""),
+                            field="process_temperature", kind="temperature")
+        version = int(request.POST.get("version", ""))
+        services.apply_point(step=step, user=request.user, dosing_time_s=td,
+                             process_temperature_k=tp, reason=request.POST.get("reason", ""),
+                             expected_version=version)
+    except (QuantityError, ValueError) as exc:
+        messages.error(request, f"Not changed: {exc}")
+        return redirect(back)
+    except services.WhatIfRefused as exc:
+        messages.error(request, f"Not changed: {exc.rule}")
+        return redirect(back)
+    except StaleRecord as exc:
+        messages.error(request, f"Not changed: {exc}")
+        return redirect(back)
+    except ValidationError as exc:
+        messages.error(request, f"Not changed: {'; '.join(exc.messages)}")
+        return redirect(back)
+    messages.success(request, services.APPLIED.format(td=td / 60, t=tp - C))
+    return redirect(f"{back}?dosing_time={td / 60:.6g}+min&process_temperature={tp - C:.4f}+degC")
