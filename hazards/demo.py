@@ -222,6 +222,9 @@ def load_demo() -> dict:
                 test=test, heating_rate_k_per_s=beta_k_min / 60.0,
                 defaults={"peak_temperature_k": peak_c + C},
             )
+    from hazards.whatif.demo import load_whatif_demo  # generated series for the what-if page
+
+    load_whatif_demo()
     flush_pending()
     from hazards.review.demo import load_review_demo  # the review lives in its own app
 

@@ -55,6 +55,7 @@ INSTALLED_APPS = [
     "django_tasks",
     "django_tasks_db",
     "hazards.dossier",
+    "hazards.whatif",
     # Sign-in lockout: failures are recorded from Django's login signals; the sign-in page
     # (hazards.web.auth) refuses a locked-out name before it authenticates (no Axes backend,
     # so other callers of authenticate() keep working unchanged).

@@ -11,5 +11,6 @@ urlpatterns = [
     path("admin/", admin.site.urls),
     path("api/v1/", include("hazards.review.urls")),
     path("api/v1/", include("hazards.api.urls")),
+    path("", include("hazards.whatif.urls")),
     path("", include("hazards.web.urls")),
 ]

@@ -4,6 +4,7 @@ from rest_framework.routers import DefaultRouter
 
 from hazards.api import views
 from hazards.api.token_views import ApiTokenViewSet, ObtainTokenView
+from hazards.whatif import urls as whatif_urls
 
 router = DefaultRouter()
 router.register("sites", views.SiteViewSet, basename="site")
@@ -21,5 +22,6 @@ urlpatterns = [
     path("docs/", SpectacularSwaggerSplitView.as_view(url_name="api-schema"), name="api-docs"),
     path("problems/", views.ProblemTypesView.as_view(), name="api-problems"),
     path("", include("hazards.dossier.api")),
+    path("", include(whatif_urls.api_urlpatterns)),
     path("", include(router.urls)),
 ]
