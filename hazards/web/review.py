@@ -166,10 +166,14 @@ def sign(request, pk):
                           meaning=form.cleaned_data["meaning"], request=request,
                           reason=form.cleaned_data["reason"])
     except E.ReviewError as exc:
-        form.add_error("password" if isinstance(exc, E.SignatureRefused) else None, exc.message)
         revision.refresh_from_db()
+        if isinstance(exc, E.SignatureRefused | E.Locked):
+            form.add_error("password", exc.message)
+            extra = {"sign_form": form}
+        else:
+            extra = {"error": exc.message}
         return render(request, "hazards/review.html", _review_context(
-            request, process, revision, sign_form=form), status=exc.status)
+            request, process, revision, **extra), status=exc.status)
     messages.success(request, f"Signed: {Meaning(form.cleaned_data['meaning']).label}.")
     return redirect("web-review", pk=process.pk)
 
@@ -184,7 +188,8 @@ def send_back(request, pk):
             rev.revision_send_back(revision=revision, user=request.user,
                                    reason=form.cleaned_data["reason"])
         except E.ReviewError as exc:
-            form.add_error(None, exc.message)
+            return render(request, "hazards/review.html", _review_context(
+                request, revision.process, revision, error=exc.message), status=exc.status)
         else:
             messages.success(request, "Sent back to the author; a new draft is open.")
             return redirect("web-review", pk=revision.process_id)

@@ -6,6 +6,7 @@ from urllib.parse import urlencode
 
 from django import template
 from django.utils.html import format_html
+from django.utils.safestring import mark_safe
 
 from hazards.web import display
 
@@ -26,9 +27,8 @@ def num(value):
 def klass(value):
     """The criticality class badge: a shape, a word and a colour."""
     if value in (None, ""):
-        return format_html(
-            '<span class="klass klass-none"><span class="klass-shape" aria-hidden="true">'
-            '</span>Not assigned</span>')
+        return mark_safe('<span class="klass klass-none"><span class="klass-shape" '
+                         'aria-hidden="true"></span>Not assigned</span>')
     value = int(value)
     label, meaning, _shape = display.CLASS_TEXT[value]
     return format_html(

@@ -132,7 +132,7 @@ def _context(step, pending, run):
         "ok": not problems and analysis is not None, "analysis": analysis,
         "parsed": parsed.series, "number": number,
         "confirm_form": ConfirmForm(), "needs_reason": common.needs_reason(step.process_id),
-        "corrections": [(c["text"], c["original_unit"], c["unit"]) for c in cells
+        "corrections": [(c["name"], c["original_unit"], c["unit"]) for c in cells
                         if c["corrected"]],
     }
 

@@ -1,0 +1,62 @@
+"""Lists keep their filters, sorting and page in the URL; history shows who, when, what, why;
+the integrity check and a dossier PDF check answer an auditor."""
+
+from __future__ import annotations
+
+import pytest
+
+from tests.factories import StepFactory
+
+pytestmark = pytest.mark.django_db
+
+
+def test_step_filters_sorting_and_pages_live_in_the_url(people, process, client_as):
+    for i in range(2, 25):
+        StepFactory(process=process, sequence=i, name=f"Wash {i:02d}")
+    client = client_as(people["author"])
+    page1 = client.get("/steps/?q=Wash&sort=name").content.decode()
+    assert "Page 1 of 2 (23 in all)" in page1
+    assert 'href="?page=2&amp;q=Wash&amp;sort=name"' in page1
+    page2 = client.get("/steps/?q=Wash&sort=name&page=2").content.decode()
+    assert "Wash 24" in page2 and "Wash 02" not in page2
+    assert 'value="Wash"' in page2 and '<option value="name" selected>' in page2
+    none = client.get("/steps/?klass=none").content.decode()
+    assert "Wash 05" in none and "Sulfonation in water" not in none
+    assert "Sulfonation in water" in client.get("/steps/?klass=1&q=Sulf").content.decode() or \
+        "Sulfonation in water" in client.get("/steps/?q=Sulf").content.decode()
+
+
+def test_process_list_filters_by_review_state(people, process, lodged, client_as):
+    client = client_as(people["author"])
+    assert process.name in client.get("/processes/?state=lodged").content.decode()
+    assert process.name not in client.get("/processes/?state=endorsed").content.decode()
+
+
+def test_history_shows_who_when_what_and_why(people, step, lodged, client_as):
+    client = client_as(people["author"])
+    form = {"sequence": 1, "name": "Sulfonation, cooled", "operation_mode": "batch",
+            "process_temperature_k": "30 °C", "reaction_mass_kg": "5000 kg",
+            "specific_heat_capacity_j_per_kg_k": "2 kJ/(kg·K)", "system": "open",
+            "operating_pressure_pa": "1.01325 bar", "solvent": step.solvent_id,
+            "vessel": step.vessel_id, "version": step.version, "reason": "name per site SOP"}
+    assert client.post(f"/steps/{step.pk}/edit/", form).status_code == 302
+    html = client.get(f"/history/hazards.reactionstep/{step.pk}/").content.decode()
+    assert "author" in html and "name per site SOP" in html
+    assert "Sulfonation in water → Sulfonation, cooled" in html
+    process_html = client.get(f"/processes/{step.process_id}/history/").content.decode()
+    assert "name per site SOP" in process_html
+
+
+def test_the_integrity_check_reports_no_problem_on_untouched_data(people, lodged, client_as):
+    response = client_as(people["auditor"]).post("/audit/verify/", {"action": "verify"})
+    html = response.content.decode()
+    assert "No problems found." in html
+    assert "Head of the chain" in html
+
+
+def test_a_pdf_that_is_no_dossier_does_not_verify(people, lodged, client_as):
+    from django.core.files.uploadedfile import SimpleUploadedFile
+
+    response = client_as(people["auditor"]).post("/audit/verify/", {
+        "file": SimpleUploadedFile("x.pdf", b"%PDF-1.7\n%%EOF\n", "application/pdf")})
+    assert "This PDF does not verify." in response.content.decode()

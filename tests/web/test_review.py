@@ -1,0 +1,108 @@
+"""Review and sign-off pages on the review app's services: meaning before password, wrong
+passwords refused, send back with a finding, the start page of each person."""
+
+from __future__ import annotations
+
+import datetime as dt
+
+import pytest
+from django.utils.html import escape
+
+from hazards.review import errors as E
+from hazards.review.models import Finding, ProcessRevision, ReviewState, Signature
+from tests.conftest import PASSWORD
+
+pytestmark = pytest.mark.django_db
+
+
+def test_the_meaning_and_the_printed_name_are_shown_before_the_password(people, process, lodged,
+                                                                          client_as):
+    html = client_as(people["reviewer"]).get(f"/processes/{process.pk}/review/").content.decode()
+    meaning_at = html.index("Reviewed: I checked the assessment for process safety")
+    assert html.index("Reviewer Persona") < html.index('type="password"')
+    assert meaning_at < html.index('type="password"')
+
+
+def test_a_wrong_password_signs_nothing_and_says_so(people, process, lodged, client_as):
+    client = client_as(people["reviewer"])
+    response = client.post(f"/revisions/{lodged.pk}/sign/",
+                           {"meaning": "reviewed", "password": "not it"})
+    assert response.status_code == 403
+    assert escape(E.WRONG_PASSWORD) in response.content.decode()
+    assert not Signature.objects.filter(signer=people["reviewer"]).exists()
+
+
+def test_the_reviewer_signs_with_the_password(people, process, lodged, client_as):
+    response = client_as(people["reviewer"]).post(
+        f"/revisions/{lodged.pk}/sign/", {"meaning": "reviewed", "password": PASSWORD})
+    assert response.status_code == 302
+    lodged.refresh_from_db()
+    assert lodged.state == ReviewState.CHECKED
+
+
+def test_an_author_cannot_sign_as_reviewer(people, process, lodged, client_as):
+    response = client_as(people["author"]).post(
+        f"/revisions/{lodged.pk}/sign/", {"meaning": "reviewed", "password": PASSWORD})
+    assert response.status_code == 403
+    assert escape(E.NOT_A_REVIEWER) in response.content.decode()
+
+
+def test_sending_back_needs_a_reason_and_opens_a_new_draft(people, process, lodged, client_as):
+    client = client_as(people["reviewer"])
+    assert client.post(f"/revisions/{lodged.pk}/send-back/", {"reason": ""}).status_code == 400
+    assert client.post(f"/revisions/{lodged.pk}/send-back/",
+                       {"reason": "accumulation not checked"}).status_code == 302
+    lodged.refresh_from_db()
+    assert lodged.state == ReviewState.SENT_BACK
+    assert ProcessRevision.objects.filter(process=process, state=ReviewState.DRAFTING).exists()
+
+
+def test_a_finding_is_raised_and_waits_on_its_owners_start_page(people, process, lodged,
+                                                                 client_as):
+    due = dt.date.today() + dt.timedelta(days=10)
+    response = client_as(people["reviewer"]).post(f"/processes/{process.pk}/findings/new/", {
+        "title": "Check the dosing interlock", "kind": "blocking",
+        "owner": people["author"].pk, "due_date": due.isoformat(), "description": ""})
+    assert response.status_code == 302
+    finding = Finding.objects.get()
+    start = client_as(people["author"]).get("/").content.decode()
+    assert "Check the dosing interlock" in start and "Blocking" in start
+    # the owner resolves it with a reason
+    done = client_as(people["author"]).post(f"/findings/{finding.pk}/", {
+        "status": "resolved", "reason": "interlock test record attached"})
+    assert done.status_code == 302
+    finding.refresh_from_db()
+    assert finding.status == "resolved"
+
+
+def test_the_start_page_shows_what_waits_for_each_person(people, process, lodged, client_as):
+    reviewer_start = client_as(people["reviewer"]).get("/").content.decode()
+    assert f"{process.name}, revision {lodged.number}" in reviewer_start
+    approver_start = client_as(people["approver"]).get("/").content.decode()
+    assert f"{process.name}, revision {lodged.number}" not in approver_start
+
+
+def test_the_difference_from_the_last_approved_revision_is_shown(people, process, step, lodged,
+                                                                  client_as):
+    from tests.web.conftest import sign
+
+    sign(lodged, people["reviewer"], "reviewed")
+    sign(lodged, people["approver"], "approved")
+    client = client_as(people["author"])
+    client.post(f"/processes/{process.pk}/revisions/open/", {"reason": "revalidation"})
+    form = {
+        "sequence": 1, "name": step.name, "operation_mode": "batch",
+        "process_temperature_k": "40 °C", "reaction_mass_kg": "5000 kg",
+        "specific_heat_capacity_j_per_kg_k": "2 kJ/(kg·K)", "system": "open",
+        "operating_pressure_pa": "1.01325 bar", "solvent": step.solvent_id,
+        "vessel": step.vessel_id, "version": step.version,
+        "reason": "process temperature raised by 10 K",
+    }
+    assert client.post(f"/steps/{step.pk}/edit/", form).status_code == 302
+    html = client.get(f"/processes/{process.pk}/review/").content.decode()
+    assert "Compared with revision 1 (approved)" in html
+    assert "Process temperature Tp" in html and "30 °C" in html and "40 °C" in html
+    step.refresh_from_db()
+    assert step.needs_review
+    assert "Approvals that no longer hold <span class=\"count\">1</span>" in client.get(
+        "/").content.decode()
