@@ -34,7 +34,7 @@ class StepVisible(permissions.IsAuthenticated):
 
 class RateConstantSerializer(serializers.Serializer):
     value = serializers.FloatField()
-    unit = serializers.ChoiceField(choices=["1/min"])
+    unit = serializers.CharField(help_text="Always 1/min.")
 
 
 class FitQualitySerializer(serializers.Serializer):
@@ -80,10 +80,10 @@ class WhatIfRequestSerializer(serializers.Serializer):
 
 
 class ProfileSerializer(serializers.Serializer):
-    time_unit = serializers.ChoiceField(choices=["min"])
+    time_unit = serializers.CharField(help_text="Always min.")
     time = serializers.ListField(child=serializers.FloatField())
     accumulation = serializers.ListField(child=serializers.FloatField())
-    mtsr_unit = serializers.ChoiceField(choices=["degC"])
+    mtsr_unit = serializers.CharField(help_text="Always degC.")
     mtsr = serializers.ListField(child=serializers.FloatField())
 
 
@@ -111,9 +111,9 @@ class WhatIfResponseSerializer(serializers.Serializer):
 
 
 class WindowSerializer(serializers.Serializer):
-    dosing_time_unit = serializers.ChoiceField(choices=["min"])
+    dosing_time_unit = serializers.CharField(help_text="Always min.")
     dosing_times = serializers.ListField(child=serializers.FloatField())
-    temperature_unit = serializers.ChoiceField(choices=["degC"])
+    temperature_unit = serializers.CharField(help_text="Always degC.")
     process_temperatures = serializers.ListField(child=serializers.FloatField())
     rows = serializers.CharField(help_text="Matrices are indexed [temperature][dosing time].")
     max_accumulation = serializers.ListField(child=serializers.ListField(

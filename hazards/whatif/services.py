@@ -305,8 +305,11 @@ def window(case, model: ReactionModel, *, dosing_time_min_s: float, dosing_time_
     dosing = np.linspace(dosing_time_min_s, dosing_time_max_s, dosing_steps)
     current = evaluate(case, model, dosing_time_s=s.dosing_time_s or model.anchor_dosing_time_s,
                        settings=settings, acceptable_classes=acceptable_classes)
-    if s.system == "closed":  # the closed-vessel MTT depends on T_p
-        mtt = [scenario.assess_step(replace(s, process_temperature_k=float(t), series=None),
+    if s.system == "closed":  # the closed-vessel MTT depends on T_p (pad gas): one per row
+        only_mtt = replace(s, series=None, specific_reaction_heat_j_per_kg=None,
+                           decomposition_method=None, onset_temperature_k=None,
+                           activation_energy_j_per_mol=None, peak_temperatures=None)
+        mtt = [scenario.assess_step(replace(only_mtt, process_temperature_k=float(t)),
                                     settings=settings).mtt_k for t in temps]
         mtt = np.array([np.nan if v is None else v for v in mtt])
     else:

@@ -99,6 +99,8 @@ def test_minimum_dosing_time_and_accumulation_of_c2_2():
     assert 30 + 60 * accumulation_at_end_of_dosing(K, t_min) == pytest.approx(35.04, abs=0.01)
     assert minimum_dosing_time(120e3, K, 300.0) == 0.0  # Q′·k = 200 W/kg < 300 W/kg
     assert minimum_dosing_time(120e3, K, 0.0) is None
+    # a fast reaction (k·t_d ≫ 37, where e^(−k·t_d) underflows): t_d,min → Q′/q′_ex
+    assert minimum_dosing_time(120e3, 1.0, 16.8) == pytest.approx(120e3 / 16.8, rel=1e-9)
 
 
 def test_the_rate_constant_inferred_from_an_accumulation_inverts_the_model():
