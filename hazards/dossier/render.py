@@ -65,11 +65,11 @@ def keywords(meta: DossierMeta) -> str:
 def css_string(text: str) -> str:
     """Text safe inside a double-quoted CSS string in a <style> element."""
     out = []
-    for ch in text:
-        if ch.isalnum() or ch in " .,;:·…-_()/+#'":
-            out.append(ch)
+    for char in text:
+        if char.isalnum() or char in " .,;:·…-_()/+#'":
+            out.append(char)
         else:
-            out.append(f"\\{ord(ch):x} ")
+            out.append(f"\\{ord(char):x} ")
     return "".join(out)
 
 
@@ -124,10 +124,18 @@ def render_sandboxed(content: dict, meta: DossierMeta, *, timeout: float | None 
         raise RenderError(f"rendering took longer than its limit of {timeout:g} s") from None
     if proc.returncode == 0 and proc.stdout.startswith(b"%PDF-"):
         return proc.stdout
-    err = proc.stderr.decode("utf-8", "replace").strip().splitlines()
-    if proc.returncode == EXIT_MEMORY or any("MemoryError" in line or "annot allocate" in line
-                                             for line in err):
+    err = [line for line in proc.stderr.decode("utf-8", "replace").strip().splitlines()
+           if not line.startswith("Fontconfig")]
+    memory_words = ("MemoryError", "annot allocate", "out of memory", "failed to map segment",
+                    "bad_alloc")
+    if proc.returncode == EXIT_MEMORY or any(w in line for line in err for w in memory_words):
         raise RenderError(f"rendering exceeded its memory limit of {memory // 2**20} MiB")
     if proc.returncode in (-signal.SIGXCPU, -signal.SIGKILL):
         raise RenderError(f"rendering exceeded its CPU-time limit of {timeout:g} s")
-    raise RenderError(err[-1][:500] if err else f"renderer exited with {proc.returncode}")
+    if proc.returncode in (-signal.SIGSEGV, -signal.SIGABRT, -signal.SIGBUS):
+        # C code (Pango, cairo-free pydyf, HarfBuzz) that cannot allocate aborts.
+        raise RenderError(f"the renderer crashed (signal {-proc.returncode}), most likely at "
+                          f"its memory limit of {memory // 2**20} MiB")
+    reported = [line for line in err if line.startswith("dossier render failed")]
+    message = (reported or err or [f"renderer exited with {proc.returncode}"])[-1]
+    raise RenderError(message[:500])

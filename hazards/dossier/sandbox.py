@@ -17,6 +17,16 @@ EXIT_MEMORY = 3
 EXIT_ERROR = 4
 
 
+def _caused_by_memory(exc: BaseException | None) -> bool:
+    """WeasyPrint wraps errors (e.g. a fetch that ran out of memory); look down the chain."""
+    seen = 0
+    while exc is not None and seen < 20:
+        if isinstance(exc, MemoryError):
+            return True
+        exc, seen = exc.__cause__ or exc.__context__, seen + 1
+    return False
+
+
 def main(argv: list[str]) -> int:
     memory, cpu = int(argv[1]), int(argv[2])
     if memory > 0:
@@ -32,6 +42,9 @@ def main(argv: list[str]) -> int:
         sys.stderr.write("dossier render exceeded its memory limit\n")
         return EXIT_MEMORY
     except BaseException as exc:  # noqa: BLE001 - reported to the parent as text
+        if _caused_by_memory(exc):
+            sys.stderr.write("dossier render exceeded its memory limit\n")
+            return EXIT_MEMORY
         sys.stderr.write(f"dossier render failed: {type(exc).__name__}: {exc}\n")
         return EXIT_ERROR
     sys.stdout.buffer.write(pdf)
