@@ -50,6 +50,9 @@ class RevisionViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveModelM
 
     serializer_class = s.RevisionSerializer
     filterset_fields = ["process", "state"]
+    _signing = {409: ["conflict"], 429: ["throttled"]}
+    extra_problems = {"create": {409: ["conflict"]}, "submit": _signing, "review": _signing,
+                      "approve": _signing, "sign": _signing, "send_back": {409: ["conflict"]}}
     ordering_fields = ["process", "number", "id"]
 
     def get_queryset(self):
@@ -163,6 +166,7 @@ class FindingViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveModelMi
     """Findings with an owner, a due date, a status and a kind; changes need a reason."""
 
     filterset_fields = ["process", "revision", "status", "kind", "owner"]
+    extra_problems = {"update": {409: ["conflict"]}, "partial_update": {409: ["conflict"]}}
 
     def get_queryset(self):
         return visible(self.request.user, Finding.objects.select_related("owner", "raised_by"))
