@@ -3,7 +3,10 @@
 from __future__ import annotations
 
 import django_filters as df
+from django import forms
+from django.db import models
 from django.db.models import Exists, OuterRef
+from django_filters.filterset import FILTER_FOR_DBFIELD_DEFAULTS
 
 from hazards.models import (
     ApiToken,
@@ -19,7 +22,29 @@ from hazards.models import (
 )
 
 
-class SiteFilter(df.FilterSet):
+class StrictBooleanField(forms.Field):
+    """`true` or `false` (also `True`/`False`/`1`/`0`); anything else is refused, not ignored."""
+
+    def to_python(self, value):
+        if value is None:
+            return None
+        if value in ("true", "True", "1"):
+            return True
+        if value in ("false", "False", "0"):
+            return False
+        raise forms.ValidationError("must be true or false", code="invalid")
+
+
+class StrictBooleanFilter(df.BooleanFilter):
+    field_class = StrictBooleanField
+
+
+class StrictFilterSet(df.FilterSet):
+    FILTER_DEFAULTS = {**FILTER_FOR_DBFIELD_DEFAULTS,
+                       models.BooleanField: {"filter_class": StrictBooleanFilter}}
+
+
+class SiteFilter(StrictFilterSet):
     code = df.CharFilter(help_text="Exact site code.")
     name = df.CharFilter(lookup_expr="icontains", help_text="Part of the name.")
 
@@ -28,7 +53,7 @@ class SiteFilter(df.FilterSet):
         fields = ["code", "name"]
 
 
-class ProcessFilter(df.FilterSet):
+class ProcessFilter(StrictFilterSet):
     site = df.CharFilter(field_name="site__code", help_text="Site code.")
     name = df.CharFilter(lookup_expr="icontains", help_text="Part of the name.")
 
@@ -37,7 +62,7 @@ class ProcessFilter(df.FilterSet):
         fields = ["site", "name"]
 
 
-class SolventFilter(df.FilterSet):
+class SolventFilter(StrictFilterSet):
     name = df.CharFilter(lookup_expr="icontains", help_text="Part of the name.")
 
     class Meta:
@@ -45,7 +70,7 @@ class SolventFilter(df.FilterSet):
         fields = ["cas_number", "name", "vapour_pressure_source"]
 
 
-class VesselFilter(df.FilterSet):
+class VesselFilter(StrictFilterSet):
     name = df.CharFilter(lookup_expr="icontains", help_text="Part of the name.")
 
     class Meta:
@@ -67,7 +92,7 @@ def _current_class(queryset, *, exact=None, gte=None, lte=None):
 CLASSES = [(str(i), str(i)) for i in range(1, 6)]
 
 
-class StepFilter(df.FilterSet):
+class StepFilter(StrictFilterSet):
     site = df.CharFilter(field_name="process__site__code", help_text="Site code.")
     name = df.CharFilter(lookup_expr="icontains", help_text="Part of the name.")
     criticality_class = df.ChoiceFilter(
@@ -98,10 +123,10 @@ class StepFilter(df.FilterSet):
         return _current_class(queryset, lte=int(value))
 
 
-class CalorimetryRunFilter(df.FilterSet):
+class CalorimetryRunFilter(StrictFilterSet):
     process = df.ModelChoiceFilter(field_name="step__process", queryset=Process.objects.all(),
                                    help_text="Process id.")
-    has_series = df.BooleanFilter(method="filter_series",
+    has_series = StrictBooleanFilter(method="filter_series",
                                   help_text="Whether a calorimeter series is attached.")
 
     class Meta:
@@ -113,7 +138,7 @@ class CalorimetryRunFilter(df.FilterSet):
         return queryset.filter(has if value else ~has)
 
 
-class DecompositionTestFilter(df.FilterSet):
+class DecompositionTestFilter(StrictFilterSet):
     process = df.ModelChoiceFilter(field_name="step__process", queryset=Process.objects.all(),
                                    help_text="Process id.")
 
@@ -122,14 +147,14 @@ class DecompositionTestFilter(df.FilterSet):
         fields = ["step", "process", "method", "is_basis"]
 
 
-class TokenFilter(df.FilterSet):
+class TokenFilter(StrictFilterSet):
     user = df.CharFilter(field_name="user__username", help_text="User name.")
     state = df.ChoiceFilter(
         method="filter_state",
         choices=[("active", "active"), ("expired", "expired"), ("revoked", "revoked")],  # TOKEN_STATES
         help_text="active, expired or revoked.",
     )
-    service_account = df.BooleanFilter(method="filter_service_account",
+    service_account = StrictBooleanFilter(method="filter_service_account",
                                        help_text="Only tokens of service accounts (true) or of "
                                                  "people (false).")
 

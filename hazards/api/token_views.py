@@ -13,6 +13,7 @@ from rest_framework.views import APIView
 
 from hazards.api.auth import issue_token
 from hazards.api.filters import TokenFilter
+from hazards.api.pagination import SingleQueryValuesMixin, StrictLimitOffsetPagination
 from hazards.models import ApiToken
 from hazards.models.tokens import hash_token
 
@@ -92,13 +93,15 @@ class ApiTokenSerializer(serializers.ModelSerializer):
         return "expired" if token.expires_at <= timezone.now() else "active"
 
 
-class ApiTokenViewSet(viewsets.ReadOnlyModelViewSet):
+class ApiTokenViewSet(SingleQueryValuesMixin, viewsets.ReadOnlyModelViewSet):
     """API tokens of all users and service accounts (never the token or its hash)."""
 
     permission_classes = [permissions.IsAuthenticated, TokenAdminPermission]
     serializer_class = ApiTokenSerializer
     queryset = ApiToken.objects.select_related("user", "user__service_account")
     filterset_class = TokenFilter
+    pagination_class = StrictLimitOffsetPagination
+    lookup_value_regex = "[^/]+"
     ordering_fields = ["created_at", "expires_at", "last_used_at", "id"]
 
     @extend_schema(request=None, responses={200: ApiTokenSerializer})

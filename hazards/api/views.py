@@ -23,6 +23,7 @@ from hazards.api import serializers as s
 from hazards.api.concurrency import ETagMixin, stale
 from hazards.api.errors import PROBLEM_TYPES, ProblemError
 from hazards.api.idempotency import IdempotentCreateMixin
+from hazards.api.pagination import SingleQueryValuesMixin, StrictLimitOffsetPagination
 from hazards.models import (
     CalorimetryRun,
     DecompositionTest,
@@ -66,9 +67,13 @@ class ModelPermissions(permissions.DjangoModelPermissions):
         return "the permission " + ", ".join(f"`{p}`" for p in perms) if perms else ""
 
 
-class RecordViewSet(IdempotentCreateMixin, ETagMixin, viewsets.ModelViewSet):
+class RecordViewSet(SingleQueryValuesMixin, IdempotentCreateMixin, ETagMixin,
+                    viewsets.ModelViewSet):
     permission_classes = [permissions.IsAuthenticated, ModelPermissions, ProcessRolePermission]
     parser_classes = [LimitedJSONParser]
+    pagination_class = StrictLimitOffsetPagination
+    # Any id segment reaches the view, so a malformed id is a 404 problem, not an HTML page.
+    lookup_value_regex = "[^/]+"
 
     def get_queryset(self):
         return visible(self.request.user, self.base_queryset())
