@@ -6,9 +6,28 @@ Its OpenAPI schema (canonical unit per field, input and output shapes) is in
 
 from __future__ import annotations
 
+from functools import cache
+
 from rest_framework import serializers
 
 from hazards.quantities import SPECS, QuantityError, display_unit, from_si, parse_quantity
+
+
+@cache
+def _linear(kind: str) -> tuple[float, float]:
+    """(a, b) with canonical = a·si + b, from the registry once per kind (pint is slow per
+    value, and lists render thousands of quantities)."""
+    b = from_si(0.0, kind=kind)
+    a = from_si(1.0, kind=kind) - b if b == 0.0 else (from_si(1000.0, kind=kind) - b) / 1000.0
+    return a, b
+
+
+def canonical(value: float | None, kind: str) -> float | None:
+    """An SI magnitude in the kind's canonical unit (as `from_si`, without pint per call)."""
+    if value is None:
+        return None
+    a, b = _linear(kind)
+    return value * a + b if a != 1.0 else value + b
 
 
 class QuantityField(serializers.Field):
@@ -45,4 +64,4 @@ class QuantityField(serializers.Field):
     def to_representation(self, value):
         if value is None:
             return None
-        return {"value": from_si(value, kind=self.kind), "unit": display_unit(self.kind)}
+        return {"value": canonical(value, self.kind), "unit": display_unit(self.kind)}

@@ -6,7 +6,7 @@ from django.core.exceptions import ValidationError as DjangoValidationError
 from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
 
-from hazards.api.fields import QuantityField
+from hazards.api.fields import QuantityField, canonical
 from hazards.models import (
     CalorimetryRun,
     DecompositionTest,
@@ -17,7 +17,7 @@ from hazards.models import (
     Solvent,
     Vessel,
 )
-from hazards.quantities import display_unit, from_si
+from hazards.quantities import display_unit
 from hazards.services.records import record_create, record_update
 
 
@@ -124,7 +124,7 @@ INDICATOR_FIELDS = {
 def _quantity(value, kind):
     if value is None:
         return None
-    return {"value": from_si(value, kind=kind), "unit": display_unit(kind)}
+    return {"value": canonical(value, kind), "unit": display_unit(kind)}
 
 
 def indicators_payload(snapshot: IndicatorSnapshot | None) -> dict | None:
