@@ -56,8 +56,8 @@ def window_svg(win, chosen=None) -> str:
     y = g.temperatures_k - T_ZERO_C
     cur = win.current
     with matplotlib.rc_context(_RC):
-        fig = Figure(figsize=(6.2, 4.2))
-        ax = fig.add_axes((0.11, 0.30, 0.62, 0.62))
+        fig = Figure(figsize=(6.2, 5.0))
+        ax = fig.add_axes((0.11, 0.40, 0.85, 0.53))
         safe = g.safe.astype(float)
         if y.size == 1:  # one temperature (no activation energy): a band
             y_plot = np.array([y[0] - 0.5, y[0] + 0.5])
@@ -114,8 +114,9 @@ def window_svg(win, chosen=None) -> str:
         if chosen is not None:
             handles.append(Line2D([], [], color=INK, marker="D", markerfacecolor=LIGHT,
                                   linestyle="none", label="chosen point"))
-        ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.02, 1.0))
-        fig.text(0.02, 0.03, f"Model: {win.model.name}. Supports, does not replace, a qualified "
+        ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(-0.1, -0.13), ncol=2,
+                  columnspacing=1.2)
+        fig.text(0.02, 0.02, f"Model: {win.model.name}. Supports, does not replace, a qualified "
                  "assessment.", fontsize=6.5, color=MID)
     return _svg(fig)
 
@@ -124,8 +125,8 @@ def profile_svg(point) -> str:
     """Accumulation a(t) and MTSR(t) of one what-if point, with MTT and TD24."""
     t, a, mtsr = point.profile
     with matplotlib.rc_context(_RC):
-        fig = Figure(figsize=(6.2, 3.4))
-        ax = fig.add_axes((0.11, 0.16, 0.62, 0.72))
+        fig = Figure(figsize=(6.2, 4.0))
+        ax = fig.add_axes((0.11, 0.36, 0.76, 0.56))
         ax.plot(t / 60.0, mtsr - T_ZERO_C, color=INK, linestyle="-", label="MTSR(t)")
         for value, style, label in ((point.mtt_k, "--", "MTT"), (point.td24_k, "-.", "TD24")):
             if value is not None:
@@ -143,5 +144,5 @@ def profile_svg(point) -> str:
         ax.set_title("Accumulation and MTSR if cooling fails at t")
         h1, l1 = ax.get_legend_handles_labels()
         h2, l2 = ax2.get_legend_handles_labels()
-        ax.legend(h1 + h2, l1 + l2, loc="upper left", bbox_to_anchor=(1.15, 1.0))
+        ax.legend(h1 + h2, l1 + l2, loc="upper left", bbox_to_anchor=(-0.1, -0.16), ncol=3)
     return _svg(fig)
