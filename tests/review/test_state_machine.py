@@ -134,6 +134,6 @@ def test_no_sequence_of_api_calls_endorses_without_three_ordered_distinct_signat
     Workflow.clients = {name: client_for(user) for name, user in people.items()}
     Workflow.endorsements = 0
     run_state_machine_as_test(Workflow, settings=settings(
-        max_examples=15, stateful_step_count=12, deadline=None, database=None,
+        max_examples=15, stateful_step_count=10, deadline=None, database=None,
         suppress_health_check=list(HealthCheck)))
     assert Workflow.endorsements > 0
