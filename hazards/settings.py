@@ -56,6 +56,7 @@ INSTALLED_APPS = [
     "django_tasks_db",
     "hazards.dossier",
     "hazards.whatif",
+    "hazards.oversight",
     # Sign-in lockout: failures are recorded from Django's login signals; the sign-in page
     # (hazards.web.auth) refuses a locked-out name before it authenticates (no Axes backend,
     # so other callers of authenticate() keep working unchanged).
@@ -188,6 +189,15 @@ SPECTACULAR_SETTINGS = {
 # Background work: the tasks API (django-tasks backport) with the database backend; run
 # `python manage.py db_worker` (docker-compose's worker service; `serve` starts one).
 TASKS = {"default": {"BACKEND": "django_tasks_db.DatabaseBackend", "QUEUES": ["default"]}}
+
+# E-mail of notifications (hazards.oversight): printed to the console unless configured;
+# tests use Django's in-memory outbox. Links in e-mails start with EXOLEDGER_BASE_URL.
+EMAIL_BACKEND = env_str("EXOLEDGER_EMAIL_BACKEND", "django.core.mail.backends.smtp.EmailBackend"
+                        if PRODUCTION else "django.core.mail.backends.console.EmailBackend")
+EMAIL_HOST = env_str("EXOLEDGER_EMAIL_HOST", "localhost")
+EMAIL_PORT = env_int("EXOLEDGER_EMAIL_PORT", 25, minimum=1)
+DEFAULT_FROM_EMAIL = env_str("EXOLEDGER_FROM_EMAIL", "exoledger@localhost")
+EXOLEDGER_BASE_URL = env_str("EXOLEDGER_BASE_URL", "http://127.0.0.1:8000")
 
 # Bounds of one dossier render (a child process: RLIMIT_AS, RLIMIT_CPU and a wall clock).
 DOSSIER_RENDER_TIMEOUT_SECONDS = env_int("EXOLEDGER_DOSSIER_TIMEOUT_SECONDS", 300, minimum=5)

@@ -14,6 +14,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 
 from django.db import connections, transaction
+from django.dispatch import Signal
 
 import calcs
 from hazards.models import IndicatorSnapshot, ReactionStep
@@ -223,6 +224,13 @@ def snapshot_for(case: StepCase, digest: str, now) -> IndicatorSnapshot:
     )
 
 
+# Sent inside the recomputing transaction with the approved steps among those renewed:
+# `steps` {step_id: inputs now differ from the approved ones}, `snapshots` {step_id: new
+# snapshot}, `previous` {step_id: id of the snapshot it replaced, or None}. The change
+# records of hazards.oversight listen; every write path passes through here.
+approved_inputs_changed = Signal()
+
+
 def recompute_steps(step_ids: Iterable[int], *, using: str = "default", force: bool = False):
     """Recompute the given steps; returns {step_id: (old_class, new_class)} of those renewed.
 
@@ -231,7 +239,7 @@ def recompute_steps(step_ids: Iterable[int], *, using: str = "default", force: b
     changed: dict[int, tuple] = {}
     with transaction.atomic(using=using):
         cases, now = load_cases_at(step_ids, using=using)
-        fresh, retire, digests = [], [], {}
+        fresh, retire, digests, previous = [], [], {}, {}
         for case in cases:
             digest = inputs_hash(case)
             current = case.current
@@ -243,27 +251,41 @@ def recompute_steps(step_ids: Iterable[int], *, using: str = "default", force: b
             digests[case.step_id] = digest
             if current is not None:
                 retire.append(current["id"])
+            previous[case.step_id] = current["id"] if current is not None else None
             changed[case.step_id] = (current["criticality_class"] if current else None,
                                      snap.criticality_class)
         if retire:
             IndicatorSnapshot.objects.using(using).filter(pk__in=retire).update(is_current=False)
         if fresh:
             IndicatorSnapshot.objects.using(using).bulk_create(fresh)
-            _mark_stale_approvals(digests, using)
+            _mark_stale_approvals(digests, using, fresh, previous)
     return changed
 
 
-def _mark_stale_approvals(digests: dict[int, str], using: str) -> None:
-    """Steps approved on other inputs than they now have need review again (one statement)."""
+def _mark_stale_approvals(digests: dict[int, str], using: str, fresh=(), previous=None) -> None:
+    """Steps approved on other inputs than they now have need review again (one statement,
+    which also returns every approved step among them for `approved_inputs_changed`)."""
     with connections[using].cursor() as cursor:
         cursor.execute(
             """
-            UPDATE hazards_reactionstep s SET needs_review = true
-            FROM unnest(%s::bigint[], %s::text[]) AS d(id, digest)
-            WHERE s.id = d.id AND s.approved_inputs_hash <> '' AND s.approved_inputs_hash <> d.digest
-              AND NOT s.needs_review
+            WITH d(id, digest) AS (SELECT * FROM unnest(%s::bigint[], %s::text[])),
+            approved AS (
+                SELECT s.id, s.needs_review, s.approved_inputs_hash <> d.digest AS differs
+                FROM hazards_reactionstep s JOIN d ON d.id = s.id
+                WHERE s.approved_inputs_hash <> ''),
+            marked AS (
+                UPDATE hazards_reactionstep s SET needs_review = true FROM approved a
+                WHERE s.id = a.id AND a.differs AND NOT a.needs_review)
+            SELECT a.id, a.differs FROM approved a
             """,
             [list(digests), list(digests.values())],
+        )
+        approved = dict(cursor.fetchall())
+    if approved:
+        approved_inputs_changed.send(
+            sender=ReactionStep, using=using, steps=approved,
+            snapshots={s.step_id: s for s in fresh if s.step_id in approved},
+            previous={k: v for k, v in (previous or {}).items() if k in approved},
         )
 
 

@@ -1,0 +1,49 @@
+"""Background work of the oversight app (django-tasks; run by `manage.py db_worker`)."""
+
+from __future__ import annotations
+
+import datetime as dt
+
+from django.utils import timezone
+from django_tasks import default_task_backend, task
+
+# The periodic refresh runs once a day at this hour (UTC).
+DAILY_AT_HOUR = 5
+
+
+@task()
+def deliver(kind: str, object_key: str, period: str = "") -> int:
+    """Write and e-mail the notifications of one idempotency key; returns how many were new."""
+    from hazards.oversight.notify import deliver_now
+
+    return len(deliver_now(kind, object_key, period))
+
+
+def next_run(now: dt.datetime) -> dt.datetime:
+    at = now.replace(hour=DAILY_AT_HOUR, minute=0, second=0, microsecond=0)
+    return at if at > now else at + dt.timedelta(days=1)
+
+
+def schedule_next(now: dt.datetime | None = None) -> bool:
+    """Queue tomorrow's run of `refresh_daily` unless one is already waiting (or the backend
+    cannot defer, as in tests). Returns whether one was queued."""
+    if not default_task_backend.supports_defer:
+        return False
+    from django_tasks_db.models import DBTaskResult
+
+    waiting = DBTaskResult.objects.filter(
+        task_path=refresh_daily.module_path, status="READY", run_after__isnull=False)
+    if waiting.exists():
+        return False
+    refresh_daily.using(run_after=next_run(now or timezone.now())).enqueue()
+    return True
+
+
+@task()
+def refresh_daily() -> dict:
+    """Refresh due dates and send the reminders of today, then queue tomorrow's run."""
+    from hazards.oversight.services import refresh_and_remind
+
+    result = refresh_and_remind()
+    schedule_next()
+    return result
