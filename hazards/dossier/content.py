@@ -233,6 +233,18 @@ def _indicator_history(step_ids: list[int], since=None) -> list[dict]:
     } for s in rows]
 
 
+def _revalidation(process: Process) -> dict | None:
+    """Revalidation and open-change state of the process on the day the dossier is issued
+    (hazards.oversight), frozen into the context like everything else it shows."""
+    from django.apps import apps
+
+    if not apps.is_installed("hazards.oversight"):
+        return None
+    from hazards.oversight.revalidation import flag_json, process_flag
+
+    return flag_json(process_flag(process))
+
+
 def dossier_content(process: Process, revision=None) -> dict:
     """The frozen content of a dossier of `revision` (None: the process's current state)."""
     from hazards.dossier import review_bridge
@@ -270,6 +282,7 @@ def dossier_content(process: Process, revision=None) -> dict:
         else None,
         "history": history,
         "audit_head_hash": review_bridge.audit_head_hash(),
+        "revalidation": _revalidation(process),
         "provenance": _provenance(step_ids, basis, record),
         "series": _series(hashes),
         "references": _references(record),

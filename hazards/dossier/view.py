@@ -255,6 +255,7 @@ def dossier_view(content: dict, meta) -> dict:
         "history": history,
         "last_approved": context.get("last_approved"),
         "audit_head_hash": context.get("audit_head_hash"),
+        "revalidation": context.get("revalidation"),
         "references": sorted(context.get("references", {}).items()),
         "steps": steps,
         "record_date_text": when(context.get("record_date")),

@@ -51,6 +51,9 @@ def quantity(si_value, kind: str | None) -> str:
         return "—"
     if kind is None:
         return number(si_value)
+    if kind == "mass" and 0 < abs(si_value) < 1:  # lab masses read better in g or mg
+        grams = float(si_value) * 1000
+        return f"{number(grams)} g" if abs(grams) >= 1 else f"{number(grams * 1000)} mg"
     shown = from_si(float(si_value), kind=kind)
     unit = human_unit(kind)
     return f"{number(shown)} {unit}".strip()

@@ -41,9 +41,9 @@ def live_validation(form, key: str) -> None:
             continue
         attrs = field.widget.attrs
         attrs.update({
-            "hx-post": f"/validate/{key}/", "hx-trigger": "change, blur changed",
+            # "change" fires when the person leaves a field they altered (or picks an option).
+            "hx-post": f"/validate/{key}/", "hx-trigger": "change",
             "hx-target": f"#err-{form.add_prefix(name)}", "hx-swap": "outerHTML",
-            "hx-sync": "closest form:abort",
         })
         described = [f"err-{form.add_prefix(name)}"]
         if field.help_text:

@@ -60,6 +60,14 @@ EXAMPLES = {
 }
 
 
+def _readable(prepare):
+    """Stored values shown in the input as people write them ('30 °C', not '30 degC')."""
+    def prepare_value(value):
+        shown = prepare(value)
+        return shown.replace(" degC", " °C") if isinstance(shown, str) else shown
+    return prepare_value
+
+
 def humanise(form) -> None:
     """Labels people read, and unit help with examples, for every field of a form."""
     from hazards.forms import QuantityFormField
@@ -69,6 +77,7 @@ def humanise(form) -> None:
         if name in LABELS:
             field.label = LABELS[name]
         if isinstance(field, QuantityFormField):
+            field.prepare_value = _readable(field.prepare_value)
             unit = human_unit(field.kind) or "a plain number"
             example = EXAMPLES.get(field.kind)
             field.help_text = (f"A value with its unit, e.g. {example}; a bare number is read "

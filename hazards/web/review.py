@@ -66,6 +66,7 @@ def review_actions(user, process, revision) -> dict:
 
 
 class SignForm(forms.Form):
+    prefix = "sign"
     meaning = forms.ChoiceField(choices=Meaning.choices, widget=forms.HiddenInput)
     password = forms.CharField(label="Your password", strip=False, widget=forms.PasswordInput(
         attrs={"autocomplete": "current-password", "required": True}))
@@ -74,11 +75,13 @@ class SignForm(forms.Form):
 
 
 class SendBackForm(forms.Form):
+    prefix = "back"
     reason = forms.CharField(label="Why it goes back to the author", max_length=2000,
                              widget=forms.Textarea(attrs={"rows": 3, "required": True}))
 
 
 class FindingForm(forms.Form):
+    prefix = "finding"
     title = forms.CharField(label="Finding", max_length=200)
     description = forms.CharField(label="Details", required=False,
                                   widget=forms.Textarea(attrs={"rows": 3}))

@@ -101,7 +101,10 @@ def step_detail(request, pk):
         "step": step, "process": step.process, "snapshot": snapshot,
         "indicator_rows": indicators.indicator_rows(snapshot),
         "groups": groups, "basis": basis, "runs": runs, "tests": tests, "series": series,
-        "charts": indicators.chart_images(snapshot, series.data if series else None),
+        "charts": indicators.chart_images(snapshot, {
+            **series.data, "initial_mass_kg": series.initial_mass_kg,
+            "feed_mass_kg": series.feed_mass_kg, "file_name": series.file_name,
+        } if series else None),
         "history": history, "can_edit": can_edit(request.user, step),
         "can_edit_reference": is_administrator(request.user),
         "shows_indicators": True,

@@ -73,7 +73,8 @@ def lodged(process, people):
     return revision
 
 
-def series_csv(*, unit_rate: str = "W", bad_cells: dict | None = None) -> bytes:
+def series_csv(*, unit_rate: str = "W", bad_cells: dict | None = None,
+               reactor_c: float = 30.0) -> bytes:
     """METHODS.md C1.7-like record: 60 min linear feed of 100 g, k = 0.1/min, Q_tot 60 kJ."""
     k, td, q_tot = 0.1, 60.0, 60e3
     lines = [f"time [min],heat_release_rate [{unit_rate}],dosed_mass [g],reactor_temperature [degC]"]
@@ -81,7 +82,7 @@ def series_csv(*, unit_rate: str = "W", bad_cells: dict | None = None) -> bytes:
         acc = ((1 - math.exp(-k * t)) / (k * td) if t <= td else
                (1 - math.exp(-k * td)) / (k * td) * math.exp(-k * (t - td)))
         rate = q_tot * k / 60 * acc
-        row = [f"{t}", f"{rate:.4f}", f"{min(t / td, 1.0) * 100:.3f}", "30.0"]
+        row = [f"{t}", f"{rate:.4f}", f"{min(t / td, 1.0) * 100:.3f}", f"{reactor_c:.1f}"]
         for (row_index, col), value in (bad_cells or {}).items():
             if row_index == i:
                 row[col] = value

@@ -26,7 +26,7 @@ def test_the_meaning_and_the_printed_name_are_shown_before_the_password(people, 
 def test_a_wrong_password_signs_nothing_and_says_so(people, process, lodged, client_as):
     client = client_as(people["reviewer"])
     response = client.post(f"/revisions/{lodged.pk}/sign/",
-                           {"meaning": "reviewed", "password": "not it"})
+                           {"sign-meaning": "reviewed", "sign-password": "not it"})
     assert response.status_code == 403
     assert escape(E.WRONG_PASSWORD) in response.content.decode()
     assert not Signature.objects.filter(signer=people["reviewer"]).exists()
@@ -34,7 +34,7 @@ def test_a_wrong_password_signs_nothing_and_says_so(people, process, lodged, cli
 
 def test_the_reviewer_signs_with_the_password(people, process, lodged, client_as):
     response = client_as(people["reviewer"]).post(
-        f"/revisions/{lodged.pk}/sign/", {"meaning": "reviewed", "password": PASSWORD})
+        f"/revisions/{lodged.pk}/sign/", {"sign-meaning": "reviewed", "sign-password": PASSWORD})
     assert response.status_code == 302
     lodged.refresh_from_db()
     assert lodged.state == ReviewState.CHECKED
@@ -42,16 +42,16 @@ def test_the_reviewer_signs_with_the_password(people, process, lodged, client_as
 
 def test_an_author_cannot_sign_as_reviewer(people, process, lodged, client_as):
     response = client_as(people["author"]).post(
-        f"/revisions/{lodged.pk}/sign/", {"meaning": "reviewed", "password": PASSWORD})
+        f"/revisions/{lodged.pk}/sign/", {"sign-meaning": "reviewed", "sign-password": PASSWORD})
     assert response.status_code == 403
     assert escape(E.NOT_A_REVIEWER) in response.content.decode()
 
 
 def test_sending_back_needs_a_reason_and_opens_a_new_draft(people, process, lodged, client_as):
     client = client_as(people["reviewer"])
-    assert client.post(f"/revisions/{lodged.pk}/send-back/", {"reason": ""}).status_code == 400
+    assert client.post(f"/revisions/{lodged.pk}/send-back/", {"back-reason": ""}).status_code == 400
     assert client.post(f"/revisions/{lodged.pk}/send-back/",
-                       {"reason": "accumulation not checked"}).status_code == 302
+                       {"back-reason": "accumulation not checked"}).status_code == 302
     lodged.refresh_from_db()
     assert lodged.state == ReviewState.SENT_BACK
     assert ProcessRevision.objects.filter(process=process, state=ReviewState.DRAFTING).exists()
@@ -61,8 +61,9 @@ def test_a_finding_is_raised_and_waits_on_its_owners_start_page(people, process,
                                                                  client_as):
     due = dt.date.today() + dt.timedelta(days=10)
     response = client_as(people["reviewer"]).post(f"/processes/{process.pk}/findings/new/", {
-        "title": "Check the dosing interlock", "kind": "blocking",
-        "owner": people["author"].pk, "due_date": due.isoformat(), "description": ""})
+        "finding-title": "Check the dosing interlock", "finding-kind": "blocking",
+        "finding-owner": people["author"].pk, "finding-due_date": due.isoformat(),
+        "finding-description": ""})
     assert response.status_code == 302
     finding = Finding.objects.get()
     start = client_as(people["author"]).get("/").content.decode()
