@@ -229,4 +229,7 @@ def load_demo() -> dict:
     from hazards.review.demo import load_review_demo  # the review lives in its own app
 
     load_review_demo(password)
+    from hazards.oversight.demo import load_oversight_demo  # due dates, change policy
+
+    load_oversight_demo()
     return {"password": password, "generated": generated, "users": ROLES}

@@ -12,5 +12,6 @@ urlpatterns = [
     path("api/v1/", include("hazards.review.urls")),
     path("api/v1/", include("hazards.api.urls")),
     path("", include("hazards.whatif.urls")),
+    path("", include("hazards.oversight.urls")),
     path("", include("hazards.web.urls")),
 ]

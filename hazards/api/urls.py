@@ -4,6 +4,7 @@ from rest_framework.routers import DefaultRouter
 
 from hazards.api import views
 from hazards.api.token_views import ApiTokenViewSet, ObtainTokenView
+from hazards.oversight import urls as oversight_urls
 from hazards.whatif import urls as whatif_urls
 
 router = DefaultRouter()
@@ -23,5 +24,6 @@ urlpatterns = [
     path("problems/", views.ProblemTypesView.as_view(), name="api-problems"),
     path("", include("hazards.dossier.api")),
     path("", include(whatif_urls.api_urlpatterns)),
+    path("", include(oversight_urls.api_urlpatterns)),
     path("", include(router.urls)),
 ]

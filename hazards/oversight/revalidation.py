@@ -92,6 +92,7 @@ def due_and_overdue(user, *, on: dt.date | None = None,
     for row in rows:
         row.state = due_state(row.due_on, on, within_days)
         row.days_left = (row.due_on - on).days
+        row.days_ago = -row.days_left
     return {"today": on, "within_days": within_days,
             "overdue": [r for r in rows if r.state == OVERDUE],
             "due": [r for r in rows if r.state == DUE], "source": DEFAULT_SOURCE}

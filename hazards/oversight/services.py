@@ -29,3 +29,35 @@ def refresh_and_remind(*, on: dt.date | None = None) -> dict:
     result.update(notify.remind(on=on))
     result["retried"] = retry_unsent()
     return result
+
+
+def preferences_of(user) -> list[dict]:
+    """Every kind with this person's choice (both channels on unless turned off)."""
+    from hazards.oversight.models import Kind, NotificationPreference
+
+    saved = {p.kind: p for p in NotificationPreference.objects.filter(user=user)}
+    return [{"kind": kind.value, "label": kind.label,
+             "email": saved[kind].email if kind in saved else True,
+             "inbox": saved[kind].inbox if kind in saved else True} for kind in Kind]
+
+
+def preference_set(*, user, kind: str, email: bool, inbox: bool):
+    from hazards.oversight.models import Kind, NotificationPreference
+
+    if kind not in Kind.values:
+        raise ValueError(f"unknown notification kind {kind!r}")
+    pref, _ = NotificationPreference.objects.update_or_create(
+        user=user, kind=kind, defaults={"email": email, "inbox": inbox})
+    return pref
+
+
+def notifications_mark_read(*, user, ids=None) -> int:
+    """Mark the person's own notifications read (all unread ones when `ids` is None)."""
+    qs = Notification.objects.filter(recipient=user, read_at__isnull=True)
+    if ids is not None:
+        qs = qs.filter(pk__in=list(ids))
+    return qs.update(read_at=timezone.now())
+
+
+def inbox_of(user):
+    return Notification.objects.filter(recipient=user, in_inbox=True)
