@@ -68,13 +68,21 @@ def waiting_for(user) -> dict:
 
 
 def class_counts(user) -> list[dict]:
+    """Steps per class, and processes per the highest class among their steps."""
+    from collections import Counter
+
     steps = steps_with_class(user)
-    rows = []
-    for value in (5, 4, 3, 2, 1, None):
-        count = steps.filter(klass=value).count() if value else steps.filter(
-            klass__isnull=True).count()
-        rows.append({"klass": value, "count": count, "param": value or "none"})
-    return rows
+    per_step = Counter(steps.values_list("klass", flat=True))
+    highest: dict[int, int | None] = {}
+    for pid, klass in steps.values_list("process_id", "klass"):
+        if klass is not None and (highest.get(pid) is None or klass > highest[pid]):
+            highest[pid] = klass
+        else:
+            highest.setdefault(pid, None)
+    per_process = Counter(highest.values())
+    return [{"klass": value, "count": per_step.get(value, 0),
+             "processes": per_process.get(value, 0), "param": value or "none"}
+            for value in (5, 4, 3, 2, 1, None)]
 
 
 def stale_approvals(user):

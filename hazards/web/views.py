@@ -8,7 +8,7 @@ from django.db.models import Prefetch
 from django.http import JsonResponse
 from django.shortcuts import render
 
-from hazards.access import is_administrator, roles_on, visible
+from hazards.access import is_administrator, roles_on
 from hazards.models import (
     CalorimetryRun,
     CalorimetrySeries,
@@ -116,5 +116,3 @@ def healthz(request):
         cursor.execute("SELECT 1")
     return JsonResponse({"status": "ok"})
 
-
-__all__ = ["home", "healthz", "process_detail", "step_detail", "visible"]

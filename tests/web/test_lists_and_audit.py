@@ -60,3 +60,15 @@ def test_a_pdf_that_is_no_dossier_does_not_verify(people, lodged, client_as):
     response = client_as(people["auditor"]).post("/audit/verify/", {
         "file": SimpleUploadedFile("x.pdf", b"%PDF-1.7\n%%EOF\n", "application/pdf")})
     assert "This PDF does not verify." in response.content.decode()
+
+
+def test_the_start_page_counts_steps_and_processes_by_class(people, process, step, client_as):
+    from hazards.web.selectors import class_counts
+
+    klass = step.snapshots.get(is_current=True).criticality_class
+    rows = {row["klass"]: row for row in class_counts(people["author"])}
+    assert rows[klass]["count"] == 1 and rows[klass]["processes"] == 1
+    assert sum(row["count"] for row in rows.values()) == 1
+    assert sum(row["count"] for row in class_counts(people["outsider"])) == 0
+    html = client_as(people["author"]).get("/").content.decode()
+    assert f'href="/steps/?klass={klass}"' in html
