@@ -203,6 +203,11 @@ EXOLEDGER_BASE_URL = env_str("EXOLEDGER_BASE_URL", "http://127.0.0.1:8000")
 DOSSIER_RENDER_TIMEOUT_SECONDS = env_int("EXOLEDGER_DOSSIER_TIMEOUT_SECONDS", 300, minimum=5)
 DOSSIER_RENDER_MEMORY_BYTES = env_int(
     "EXOLEDGER_DOSSIER_MEMORY_MB", 2048, minimum=256) * 1024 * 1024
+# A row left `rendering` longer than this lost its worker: it is queued again (at the next
+# render job), at most DOSSIER_RENDER_MAX_ATTEMPTS claims in all, then marked failed.
+DOSSIER_RENDER_LEASE_SECONDS = env_int(
+    "EXOLEDGER_DOSSIER_LEASE_SECONDS", DOSSIER_RENDER_TIMEOUT_SECONDS * 2 + 60, minimum=1)
+DOSSIER_RENDER_MAX_ATTEMPTS = 3
 
 # API tokens live this long unless a shorter life is asked for.
 API_TOKEN_TTL_HOURS = env_int("EXOLEDGER_API_TOKEN_TTL_HOURS", 24 * 30, minimum=1)

@@ -124,7 +124,16 @@ def dossier_render(*, dossier_id: int, worker: str = "inline", sandbox: bool = T
         logger.exception("dossier %s failed", dossier.pk)
         dossier_fail(dossier=dossier, error=f"{type(exc).__name__}: {exc}")
         raise
-    return dossier_finish(dossier=dossier, pdf=pdf)
+    try:
+        return dossier_finish(dossier=dossier, pdf=pdf)
+    except RenderError:
+        raise  # no longer this worker's to finish (see dossier_finish)
+    except Exception as exc:  # e.g. the disk full: never leave the row `rendering`
+        logger.exception("dossier %s could not be stored", dossier.pk)
+        full = "No space left on device" in str(exc) or getattr(exc, "errno", None) == 28
+        dossier_fail(dossier=dossier, error="the PDF could not be stored ("
+                     + ("no space left on device" if full else type(exc).__name__) + ")")
+        raise
 
 
 def dossier_retry(*, dossier: Dossier) -> Dossier:
@@ -141,14 +150,23 @@ def dossier_retry(*, dossier: Dossier) -> Dossier:
     return row
 
 
-def dossier_fail_stale(*, older_than_seconds: float) -> int:
-    """Mark dossiers left `rendering` by a worker that died as failed (they can be retried)."""
+def dossier_recover_stale(*, older_than_seconds: float, max_attempts: int = 3) -> int:
+    """Dossiers left `rendering` by a worker that died (its lease ran out): queued and
+    enqueued again, so another worker picks them up; failed (retry by hand) once they have
+    been claimed `max_attempts` times, so a render that kills its worker cannot loop."""
     cutoff = timezone.now() - timezone.timedelta(seconds=older_than_seconds)
     with transaction.atomic():
         rows = list(Dossier.objects.select_for_update(skip_locked=True)
                     .filter(status=DossierStatus.RENDERING, started_at__lt=cutoff))
         for row in rows:
-            row.status, row.error, row.finished_at = DossierStatus.FAILED, LOST_WORKER, \
-                timezone.now()
-            row.save(update_fields=["status", "error", "finished_at"])
+            if row.attempts < max_attempts:
+                row.status, row.error = DossierStatus.QUEUED, LOST_WORKER
+                row.save(update_fields=["status", "error"])
+                from hazards.dossier.tasks import render_dossier
+
+                render_dossier.enqueue(row.pk)
+            else:
+                row.status, row.error, row.finished_at = DossierStatus.FAILED, LOST_WORKER, \
+                    timezone.now()
+                row.save(update_fields=["status", "error", "finished_at"])
     return len(rows)

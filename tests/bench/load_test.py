@@ -52,7 +52,7 @@ def database_url(config: dict) -> str:
     user = quote(config.get("USER") or "postgres", safe="")
     password = config.get("PASSWORD") or ""
     auth = f"{user}:{quote(password, safe='')}@" if password else f"{user}@"
-    host = config.get("HOST") or ""
+    host = config.get("HOST") or (config.get("OPTIONS") or {}).get("host") or ""
     name = config["NAME"]
     if host.startswith("/"):
         return f"postgresql://{auth}/{name}?host={quote(host, safe='/')}"
@@ -75,7 +75,8 @@ def _connect(config: dict, name: str):
 
     return psycopg.connect(dbname=name, user=config.get("USER") or None,
                            password=config.get("PASSWORD") or None,
-                           host=config.get("HOST") or None, port=config.get("PORT") or None,
+                           host=config.get("HOST") or (config.get("OPTIONS") or {}).get("host"),
+                           port=config.get("PORT") or None,
                            autocommit=True, connect_timeout=10)
 
 
