@@ -129,4 +129,12 @@ REFERENCES: dict[str, str] = {
         "Exoledger METHODS.md: thermal-safety methods, equations, sources and check cases "
         "(project note)."
     ),
+    "steinbach1999": (
+        "J. Steinbach, Safety Assessment for Chemical Processes, Wiley-VCH, Weinheim, 1999 "
+        "(from memory)."
+    ),
+    "westerterp_molga2006": (
+        "K.R. Westerterp, E.J. Molga, 'Safety and runaway prevention in batch and semibatch "
+        "reactors - a review', Chem. Eng. Res. Des. 84 (2006) 543-552 (details from memory)."
+    ),
 }

@@ -49,14 +49,7 @@ from calcs.errors import (
     require_sorted_increasing,
 )
 
-# Full citations of the two references that calcs.constants.REFERENCES does not hold yet.
-CITATIONS: dict[str, str] = {
-    "steinbach1999": "J. Steinbach, Safety Assessment for Chemical Processes, Wiley-VCH, "
-                     "Weinheim, 1999 (from memory).",
-    "westerterp_molga2006": "K.R. Westerterp, E.J. Molga, 'Safety and runaway prevention in "
-                            "batch and semibatch reactors - a review', Chem. Eng. Res. Des. 84 "
-                            "(2006) 543-552 (details from memory).",
-}
+# Keys into calcs.constants.REFERENCES.
 REFERENCES = ("steinbach1999", "westerterp_molga2006", "stoessel2008", "methods_md")
 ASSUMPTIONS = (
     "pseudo-first-order consumption of the dosed reagent (the charged one in excess)",
@@ -884,7 +877,7 @@ def as_table(window: OperatingWindow) -> list[dict]:
     return rows
 
 
-__all__ = ["ASSUMPTIONS", "CITATIONS", "REFERENCES", "ArrheniusFit", "OperatingWindow",
+__all__ = ["ASSUMPTIONS", "REFERENCES", "ArrheniusFit", "OperatingWindow",
            "SemibatchFit", "accumulated_fraction", "accumulation_at_end_of_dosing",
            "as_table", "criticality_classes", "dosing_profile", "fit_arrhenius",
            "fit_semibatch_series", "mass_basis_accumulation", "minimum_dosing_time",
