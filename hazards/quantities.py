@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import math
 import re
+import tokenize
 from dataclasses import dataclass
 from numbers import Real
 
@@ -134,8 +135,8 @@ def _finite_number(field: str, value) -> float:
 def _unit(field: str, unit_text: str) -> pint.Unit:
     try:
         return ureg.Unit(normalise_unit(unit_text))
-    except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError, AttributeError,
-            ValueError, TypeError, AssertionError, KeyError):
+    except (pint.errors.PintError, AttributeError, ValueError, TypeError, AssertionError,
+            KeyError, SyntaxError, tokenize.TokenError):  # pint's parser raises all of these
         raise QuantityError(field, unit_text, "is not a known unit", "unknown_unit") from None
 
 

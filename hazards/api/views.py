@@ -13,6 +13,7 @@ from django.db.models import Prefetch
 from drf_spectacular.utils import extend_schema
 from rest_framework import parsers, permissions, viewsets
 from rest_framework.decorators import action
+from rest_framework.exceptions import ParseError
 from rest_framework.permissions import AllowAny
 from rest_framework.response import Response
 from rest_framework.views import APIView
@@ -46,7 +47,23 @@ class LimitedJSONParser(parsers.JSONParser):
         if length and length.isdigit() and int(length) > settings.DATA_UPLOAD_MAX_MEMORY_SIZE:
             raise ProblemError("payload_too_large", f"The body is larger than "
                                f"{settings.DATA_UPLOAD_MAX_MEMORY_SIZE} bytes.")
-        return super().parse(stream, media_type, parser_context)
+        data = super().parse(stream, media_type, parser_context)
+        _refuse_lone_surrogates(data)
+        return data
+
+
+def _refuse_lone_surrogates(data, depth: int = 0) -> None:
+    """JSON may escape half a UTF-16 pair (`"\\ud800"`); such text cannot be stored."""
+    if isinstance(data, str):
+        if any("\ud800" <= c <= "\udfff" for c in data):
+            raise ParseError("The body contains a lone UTF-16 surrogate (invalid Unicode).")
+    elif isinstance(data, dict):
+        for key, value in data.items():
+            _refuse_lone_surrogates(key, depth + 1)
+            _refuse_lone_surrogates(value, depth + 1)
+    elif isinstance(data, list):
+        for value in data:
+            _refuse_lone_surrogates(value, depth + 1)
 
 
 class ModelPermissions(permissions.DjangoModelPermissions):

@@ -113,3 +113,19 @@ def test_the_problem_catalogue_is_public(anon_api):
     codes = {p["code"]: p["status"] for p in resp.json()}
     assert codes["precondition_failed"] == 412 and codes["precondition_required"] == 428
     assert codes["idempotency_key_reused"] == 422
+
+
+def test_a_lone_surrogate_in_json_is_a_parse_error_not_a_crash(api):
+    # "\ud800" is half a UTF-16 pair: valid JSON escape, invalid Unicode for PostgreSQL.
+    for body in ('{"code": "x", "name": "\\ud800"}', '{"\\udfff": 1}'):
+        resp = api.generic("POST", "/api/v1/sites/", body, content_type="application/json")
+        _is_problem(resp, 400, "parse_error")
+
+
+@pytest.mark.parametrize("unit", ["(", "1/(", "kg)", "**"])
+def test_a_unit_pint_cannot_even_tokenise_is_a_400(api, unit):
+    resp = api.post("/api/v1/vessels/", {"name": "V", "tag": "V-1",
+                                         "volume": {"value": 1, "unit": unit}}, format="json")
+    body = _is_problem(resp, 400, "validation_error")
+    volume = next(e for e in body["errors"] if e["field"] == "volume")
+    assert volume["code"] == "unknown_unit"
