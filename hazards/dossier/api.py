@@ -57,6 +57,7 @@ def _visible_dossiers(user):
 class DossierViewSet(viewsets.ReadOnlyModelViewSet):
     serializer_class = DossierSerializer
     permission_classes = [permissions.IsAuthenticated]
+    lookup_value_regex = r"\d+"  # an id that is no number is no route (404), never a 500
     filterset_fields = ["process", "status"]
     ordering_fields = ["created_at", "version", "id"]
 
