@@ -183,6 +183,8 @@ SPECTACULAR_SETTINGS = {
         "TokenStateEnum": "hazards.api.token_views.TOKEN_STATES",
         "FindingStatusEnum": "hazards.review.models.FindingStatus",
         "DossierStatusEnum": "hazards.dossier.models.DossierStatus",
+        "NotificationKindEnum": "hazards.oversight.models.Kind",
+        "FindingKindEnum": "hazards.review.models.FindingKind",
     },
 }
 
