@@ -47,7 +47,10 @@ class LimitedJSONParser(parsers.JSONParser):
         if length and length.isdigit() and int(length) > settings.DATA_UPLOAD_MAX_MEMORY_SIZE:
             raise ProblemError("payload_too_large", f"The body is larger than "
                                f"{settings.DATA_UPLOAD_MAX_MEMORY_SIZE} bytes.")
-        data = super().parse(stream, media_type, parser_context)
+        try:
+            data = super().parse(stream, media_type, parser_context)
+        except RecursionError:  # e.g. 10 000 nested arrays: a 400, not a 500
+            raise ProblemError("parse_error", "The JSON is nested too deeply.") from None
         _refuse_lone_surrogates(data)
         return data
 
