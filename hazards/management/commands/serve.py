@@ -39,6 +39,11 @@ class Command(BaseCommand):
         self.stdout.flush()
         if no_serve:
             return
+        # The daily refresh of revalidation dates and reminders, run by the worker below;
+        # queued once (a queued copy is never duplicated).
+        from hazards.oversight.tasks import schedule_next
+
+        schedule_next()
         gunicorn = shutil.which("gunicorn") or os.path.join(os.path.dirname(sys.executable),
                                                            "gunicorn")
         argv = [gunicorn, "hazards.wsgi:application", "--bind", bind, "--workers", str(workers),
