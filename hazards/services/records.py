@@ -28,8 +28,11 @@ def lock_version(*, instance: models.Model, expected_version: int | None) -> Non
     if expected_version is None:
         return
     model = type(instance)
+    # FOR NO KEY UPDATE (what the UPDATE itself takes): a plain FOR UPDATE also blocks the
+    # KEY SHARE that inserting a child row (a run of this step) takes for its foreign key,
+    # which deadlocked against the audit chain's lock under load.
     current = (
-        model._base_manager.select_for_update()
+        model._base_manager.select_for_update(no_key=True)
         .filter(pk=instance.pk)
         .values_list("version", flat=True)
         .first()
