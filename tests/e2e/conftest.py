@@ -1,7 +1,9 @@
 """End-to-end tests in Debian's Chromium (never `playwright install`) against live_server.
 
 Playwright's sync API runs an event loop in the test thread, so Django's async-safety check
-would refuse the ORM calls the tests make to set up data: allow them here only.
+would refuse the ORM calls the tests make to set up data: DJANGO_ALLOW_ASYNC_UNSAFE is set for
+these tests only (a fixture, so that it never leaks into the environment of other tests or of
+the processes they start, where `check --deploy` rightly refuses it).
 """
 
 from __future__ import annotations
@@ -11,8 +13,6 @@ import os
 from pathlib import Path
 
 import pytest
-
-os.environ["DJANGO_ALLOW_ASYNC_UNSAFE"] = "true"
 
 CHROMIUM = "/usr/bin/chromium"
 CHROMIUM_ARGS = ["--headless=new", "--no-sandbox", "--disable-gpu", "--disable-quic",
@@ -29,6 +29,23 @@ def pytest_collection_modifyitems(config, items):
         for item in items:
             if "e2e" in item.keywords:
                 item.add_marker(skip)
+
+
+ASYNC_UNSAFE = "DJANGO_ALLOW_ASYNC_UNSAFE"
+
+
+@pytest.hookimpl(hookwrapper=True)
+def pytest_runtest_setup(item):
+    # Runs for the items under tests/e2e only; set before any fixture (even the session ones,
+    # such as the test database, that an e2e test may be the first to need).
+    os.environ[ASYNC_UNSAFE] = "true"
+    yield
+
+
+@pytest.hookimpl(hookwrapper=True)
+def pytest_runtest_teardown(item, nextitem):
+    yield
+    os.environ.pop(ASYNC_UNSAFE, None)
 
 
 @pytest.fixture(scope="session")
