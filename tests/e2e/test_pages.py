@@ -41,6 +41,11 @@ def test_main_pages_have_no_serious_accessibility_problem(under_review, live_ser
         if found:
             problems[name] = found
         shoot(page, artifacts, name)
+        page.set_viewport_size({"width": 390, "height": 900})
+        width = page.evaluate("document.documentElement.scrollWidth")
+        if width > 390:
+            problems[f"{name} at 390 px"] = f"the page is {width} px wide"
+        page.set_viewport_size({"width": 1280, "height": 900})
 
     check("signin", "/signin/")
     sign_in(page, base, "reviewer")
