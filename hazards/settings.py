@@ -49,6 +49,7 @@ INSTALLED_APPS = [
     "pgtrigger",
     "pghistory",
     "pghistory.admin",
+    "csp",
     "hazards",
     "hazards.review",
     "hazards.integration",
@@ -75,6 +76,8 @@ MIDDLEWARE = [
     "django.contrib.messages.middleware.MessageMiddleware",
     "django.middleware.clickjacking.XFrameOptionsMiddleware",
     "pghistory.middleware.HistoryMiddleware",
+    "csp.middleware.CSPMiddleware",
+    "hazards.middleware.ApiNoStoreMiddleware",
 ]
 
 ROOT_URLCONF = "hazards.urls"
@@ -124,6 +127,7 @@ USE_TZ = True
 STATIC_URL = "static/"
 STATIC_ROOT = BASE_DIR / "var" / "static"
 STATICFILES_DIRS = [BASE_DIR / "hazards" / "static"]
+WHITENOISE_USE_FINDERS = not PRODUCTION
 
 LOGIN_URL = "/signin/"
 LOGIN_REDIRECT_URL = "/"
@@ -240,3 +244,19 @@ if PRODUCTION:
 
 # The audit trail: append-only event tables for every tracked model (INTEGRITY.md §0.2).
 PGHISTORY_APPEND_ONLY = True
+
+# Content Security Policy (django-csp 4): only our own scripts, styles, fonts and images.
+CONTENT_SECURITY_POLICY = {
+    "DIRECTIVES": {
+        "default-src": ["'self'"],
+        "script-src": ["'self'"],
+        "style-src": ["'self'"],
+        "img-src": ["'self'", "data:"],
+        "font-src": ["'self'"],
+        "connect-src": ["'self'"],
+        "frame-ancestors": ["'none'"],
+        "form-action": ["'self'"],
+        "base-uri": ["'self'"],
+        "object-src": ["'none'"],
+    }
+}
