@@ -61,3 +61,14 @@ def test_every_page_that_shows_indicators_carries_the_caution(people, process, s
         body = client.get(url).content.decode()
         assert "support and do not replace a qualified" in body, url
         assert "Local codes, company standards and" in body, url
+
+
+def test_the_step_page_offers_the_what_if_page_for_semi_batch_steps_only(people, step,
+                                                                         client_as):
+    client = client_as(people["reviewer"])
+    link = f'href="/steps/{step.pk}/what-if/"'
+    assert step.operation_mode == "batch"
+    assert link not in client.get(f"/steps/{step.pk}/").content.decode()
+    step.operation_mode, step.dosing_time_s = "semi_batch", 3600.0
+    step.save()
+    assert link in client.get(f"/steps/{step.pk}/").content.decode()
