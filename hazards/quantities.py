@@ -46,44 +46,58 @@ class QuantitySpec:
     maximum_inclusive: bool = True
     rule: str = ""
     accepts_molar: bool = False  # kJ/mol with a molar mass, for specific energies
+    # The range a plant record can plausibly hold (SI); outside it a value is a typing or unit
+    # mistake, not a measurement. Common practice, no source: generous bounds of our own.
+    plausible: tuple[float, float] | None = None
 
     @property
     def dimensionality(self):
         return ureg.Unit(self.si_unit).dimensionality
 
 
-TEMPERATURE = QuantitySpec("kelvin", "degC", 0.0, False, rule="must be above absolute zero (0 K)")
+TEMPERATURE = QuantitySpec("kelvin", "degC", 0.0, False, rule="must be above absolute zero (0 K)",
+                           plausible=(1.0, 3000.0))
 # (si unit, canonical unit) of each kind; physical limits per field below.
 POSITIVE = "must be greater than zero"
 NON_NEGATIVE = "must not be negative"
 
 SPECS: dict[str, QuantitySpec] = {
     "temperature": TEMPERATURE,
-    "mass": QuantitySpec("kilogram", "kg", 0.0, False, rule=POSITIVE),
-    "specific_heat_capacity": QuantitySpec("J/(kg*K)", "kJ/(kg*K)", 0.0, False, rule=POSITIVE),
+    "mass": QuantitySpec("kilogram", "kg", 0.0, False, rule=POSITIVE, plausible=(1e-9, 1e7)),
+    "specific_heat_capacity": QuantitySpec("J/(kg*K)", "kJ/(kg*K)", 0.0, False, rule=POSITIVE,
+                                           plausible=(100.0, 2e4)),
     "pressure": QuantitySpec(
-        "pascal", "bar", 0.0, False, rule="must be an absolute pressure above zero"
+        "pascal", "bar", 0.0, False, rule="must be an absolute pressure above zero",
+        plausible=(1.0, 1e9),
     ),
-    "time": QuantitySpec("second", "min", 0.0, False, rule=POSITIVE),
+    "time": QuantitySpec("second", "min", 0.0, False, rule=POSITIVE, plausible=(1e-3, 1e8)),
     "specific_energy": QuantitySpec(
         "J/kg", "kJ/kg", 0.0, True,
         rule="must not be negative (heat released is stored as a positive number)",
         accepts_molar=True,
+        plausible=(0.0, 1e8),
     ),
     "fraction": QuantitySpec(
         "dimensionless", "dimensionless", 0.0, True, 1.0, True, rule="must be a fraction in 0..1"
     ),
-    "specific_power": QuantitySpec("W/kg", "W/kg", 0.0, True, rule=NON_NEGATIVE),
-    "specific_amount": QuantitySpec("mol/kg", "mol/kg", 0.0, True, rule=NON_NEGATIVE),
-    "heating_rate": QuantitySpec("K/s", "K/min", 0.0, False, rule=POSITIVE),
-    "molar_energy": QuantitySpec("J/mol", "kJ/mol", 0.0, False, rule=POSITIVE),
-    "volume": QuantitySpec("m**3", "m**3", 0.0, False, rule=POSITIVE),
-    "area": QuantitySpec("m**2", "m**2", 0.0, False, rule=POSITIVE),
-    "heat_transfer_coefficient": QuantitySpec("W/(m**2*K)", "W/(m**2*K)", 0.0, False, rule=POSITIVE),
+    "specific_power": QuantitySpec("W/kg", "W/kg", 0.0, True, rule=NON_NEGATIVE,
+                                   plausible=(0.0, 1e7)),
+    "specific_amount": QuantitySpec("mol/kg", "mol/kg", 0.0, True, rule=NON_NEGATIVE,
+                                    plausible=(0.0, 1e4)),
+    "heating_rate": QuantitySpec("K/s", "K/min", 0.0, False, rule=POSITIVE,
+                                 plausible=(1e-6, 100.0)),
+    "molar_energy": QuantitySpec("J/mol", "kJ/mol", 0.0, False, rule=POSITIVE,
+                                 plausible=(1.0, 1e7)),
+    "volume": QuantitySpec("m**3", "m**3", 0.0, False, rule=POSITIVE, plausible=(1e-9, 1e4)),
+    "area": QuantitySpec("m**2", "m**2", 0.0, False, rule=POSITIVE, plausible=(1e-6, 1e5)),
+    "heat_transfer_coefficient": QuantitySpec("W/(m**2*K)", "W/(m**2*K)", 0.0, False,
+                                              rule=POSITIVE, plausible=(1e-2, 1e5)),
     "phi_factor": QuantitySpec(
-        "dimensionless", "dimensionless", 1.0, True, rule="the phi factor is at least 1"
+        "dimensionless", "dimensionless", 1.0, True, rule="the phi factor is at least 1",
+        plausible=(1.0, 100.0),
     ),
-    "molar_mass": QuantitySpec("kg/mol", "g/mol", 0.0, False, rule=POSITIVE),
+    "molar_mass": QuantitySpec("kg/mol", "g/mol", 0.0, False, rule=POSITIVE,
+                               plausible=(1e-3, 100.0)),
     "power": QuantitySpec("watt", "W", None, rule=""),
     "temperature_difference": QuantitySpec("kelvin", "K", None, rule=""),
     "duration_h": QuantitySpec("second", "h", 0.0, False, rule=POSITIVE),
@@ -140,6 +154,22 @@ def _unit(field: str, unit_text: str) -> pint.Unit:
         raise QuantityError(field, unit_text, "is not a known unit", "unknown_unit") from None
 
 
+def _plausible(field: str, shown, si_value: float, spec: QuantitySpec) -> float:
+    if spec.plausible is None:
+        return si_value
+    low, high = spec.plausible
+    if not low <= si_value <= high:
+        unit = spec.canonical_unit if spec.canonical_unit != "dimensionless" else ""
+        shown_low, shown_high = (_to_canonical(v, spec) for v in (low, high))
+        raise QuantityError(
+            field, shown,
+            f"is outside the plausible range of a plant record ({shown_low:g} to "
+            f"{shown_high:g} {unit}".rstrip() + "): check the value and its unit",
+            "implausible",
+        )
+    return si_value
+
+
 def _check_limits(field: str, shown, si_value: float, spec: QuantitySpec) -> float:
     if spec.minimum is not None:
         low_ok = si_value >= spec.minimum if spec.minimum_inclusive else si_value > spec.minimum
@@ -149,7 +179,7 @@ def _check_limits(field: str, shown, si_value: float, spec: QuantitySpec) -> flo
         high_ok = si_value <= spec.maximum if spec.maximum_inclusive else si_value < spec.maximum
         if not high_ok:
             raise QuantityError(field, shown, spec.rule, "out_of_range")
-    return si_value
+    return _plausible(field, shown, si_value, spec)
 
 
 def convert_to_si(field: str, magnitude: float, unit_text: str, spec: QuantitySpec,
@@ -216,12 +246,15 @@ def parse_quantity(raw, *, field: str, kind: str) -> float:
     return convert_to_si(field, magnitude, unit_text, spec, molar_mass)
 
 
+def _to_canonical(si_value: float, spec: QuantitySpec) -> float:
+    return float(Q_(si_value, ureg.Unit(spec.si_unit)).to(ureg.Unit(spec.canonical_unit)).magnitude)
+
+
 def from_si(si_value: float | None, *, kind: str) -> float | None:
     """An SI magnitude -> the field's canonical unit."""
     if si_value is None:
         return None
-    spec = SPECS[kind]
-    return float(Q_(si_value, ureg.Unit(spec.si_unit)).to(ureg.Unit(spec.canonical_unit)).magnitude)
+    return _to_canonical(si_value, SPECS[kind])
 
 
 def display_unit(kind: str) -> str:

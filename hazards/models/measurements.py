@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from django.core.validators import MaxLengthValidator
 from django.db import models
 from django.db.models import Q
 
@@ -25,7 +26,7 @@ class CalorimetryRun(InputModel):
     raw_file_sha256 = models.CharField(max_length=64, blank=True, editable=False)
     # The run the assessment rests on; when none is marked, the most recent is used.
     is_basis = models.BooleanField(default=False)
-    notes = models.TextField(blank=True)
+    notes = models.TextField(blank=True, validators=[MaxLengthValidator(10000)])
 
     class Meta:
         ordering = ["step_id", "-run_date", "-id"]
@@ -85,7 +86,7 @@ class DecompositionTest(InputModel):
     heat_release_rate_at_reference_w_per_kg = models.FloatField(null=True, blank=True)
     phi_factor = models.FloatField(null=True, blank=True)
     is_basis = models.BooleanField(default=False)
-    notes = models.TextField(blank=True)
+    notes = models.TextField(blank=True, validators=[MaxLengthValidator(10000)])
 
     class Meta:
         ordering = ["step_id", "-test_date", "-id"]

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from django.conf import settings
+from django.core.validators import MaxLengthValidator
 from django.db import models
 from django.db.models import Q
 
@@ -27,7 +28,7 @@ class Site(InputModel):
 @tracked()
 class Process(InputModel):
     name = models.CharField(max_length=200)
-    description = models.TextField(blank=True)
+    description = models.TextField(blank=True, validators=[MaxLengthValidator(10000)])
     site = models.ForeignKey(Site, on_delete=models.PROTECT, related_name="processes")
     owner = models.ForeignKey(
         settings.AUTH_USER_MODEL,
@@ -76,7 +77,7 @@ class ReactionStep(InputModel):
     )
     dosing_time_s = models.FloatField(null=True, blank=True)
     mtt_override_k = models.FloatField(null=True, blank=True)
-    mtt_override_reason = models.TextField(blank=True)
+    mtt_override_reason = models.TextField(blank=True, validators=[MaxLengthValidator(2000)])
     # Set by the indicator service when the inputs of an approved step change.
     needs_review = models.BooleanField(default=False)
     approved_inputs_hash = models.CharField(max_length=64, blank=True)

@@ -183,3 +183,30 @@ def test_a_molar_heat_needs_and_uses_a_molar_mass(api, site):
                    {"value": 120, "unit": "kJ/mol", "molar_mass": "150 g/mol"}}, format="json")
     assert ok.status_code == 201, ok.json()
     assert ok.json()["specific_reaction_heat"]["value"] == pytest.approx(800.0, rel=1e-12)
+
+
+@pytest.mark.parametrize(
+    ("field", "value"),
+    [
+        ("process_temperature", {"value": 5e-324, "unit": "K"}),  # above 0 K, yet no record
+        ("process_temperature", "1e6 degC"),
+        ("reaction_mass", "1e308 kg"),
+        ("specific_heat_capacity", "2 J/(kg*K)"),  # typed J for kJ: below any liquid's cp
+    ],
+)
+def test_a_finite_but_implausible_value_is_refused_as_a_likely_unit_mistake(api, site, field,
+                                                                              value):
+    process = m.Process.objects.create(name="P", site=site)
+    resp = api.post("/api/v1/steps/", _step_payload(process.pk, **{field: value}), format="json")
+    assert resp.status_code == 400
+    assert "plausible range" in str(resp.json()) and field in str(resp.json())
+    assert not m.ReactionStep.objects.exists()
+
+
+def test_an_overlong_reason_is_refused(api, site):
+    process = m.Process.objects.create(name="P", site=site)
+    resp = api.post("/api/v1/steps/", _step_payload(
+        process.pk, mtt_override="90 degC", mtt_override_reason="x" * 2001), format="json")
+    assert resp.status_code == 400
+    assert "mtt_override_reason" in str(resp.json())
+    assert not m.ReactionStep.objects.exists()
