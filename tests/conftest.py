@@ -48,3 +48,9 @@ def anon_api():
     from rest_framework.test import APIClient
 
     return APIClient()
+
+
+def pytest_collection_modifyitems(config, items):
+    """Browser tests last: Playwright's event loop stays open in the main thread once started,
+    and Django then refuses database calls of the tests that follow (async-unsafe check)."""
+    items.sort(key=lambda item: item.get_closest_marker("e2e") is not None)
