@@ -173,7 +173,7 @@ WRITES = [
     ("add step", _post(lambda s: "/api/v1/steps/", lambda s, w: {
         "process": s.process.pk, "sequence": 9, "name": "New", "operation_mode": "batch",
         "process_temperature": "30 degC", "reaction_mass": "1000 kg",
-        "specific_heat_capacity": 2000, "system": "open", "operating_pressure": "1 bar",
+        "specific_heat_capacity": "2 kJ/(kg*K)", "system": "open", "operating_pressure": "1 bar",
         "reason": "matrix"}),
      only({"author": 201, "admin": 201}, 403, outsider=403), RECORD_POST),
     ("add calorimetry run", _post(lambda s: "/api/v1/calorimetry-runs/", lambda s, w: {
