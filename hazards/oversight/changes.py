@@ -217,6 +217,61 @@ def close_on_approval(*, revision, signed_at, using: str = "default") -> int:
     ).update(state=ChangeState.CLOSED, closed_at=signed_at, closed_by_revision=revision)
 
 
+LIGHT_PATH_USED = ("Light review path: reviewer step not required (site policy, changes within "
+                   "tolerance); change records {records} against revision {baseline}.")
+
+
+def light_path(*, revision, content: dict, lock: bool = False,
+               using: str = "default") -> tuple[bool, str | None]:
+    """Whether the lodged `revision` (whose content is `content`) may be endorsed without the
+    reviewer's step: (whether the site allows the lighter path, the reason to record or None).
+
+    Only when the site's policy allows it, the revision replaces an earlier approved one, the
+    process has open change records and every one is on the light path and against that
+    approval, and, compared with the approved content, nothing but the steps of those records
+    changed, with no indicator beyond the site's tolerances (re-evaluated now) and the same
+    criticality class. `lock` takes the policy and record rows (inside the signing
+    transaction) so that neither can change before the signature commits."""
+    from hazards.models import Process
+    from hazards.review.models import ProcessRevision
+
+    site_id = Process._base_manager.using(using).filter(pk=revision.process_id).values_list(
+        "site_id", flat=True).first()
+    policies = ChangePolicy.objects.using(using).filter(site_id=site_id)
+    records = ChangeRecord.objects.using(using).filter(process_id=revision.process_id,
+                                                       state=ChangeState.OPEN).order_by("pk")
+    if lock:
+        policies, records = policies.select_for_update(), records.select_for_update()
+    policy = policies.first()
+    if policy is None or not policy.light_review_allowed:
+        return False, None
+    baseline_id = _last_approvals([revision.process_id], using).get(revision.process_id)
+    records = list(records)
+    if (baseline_id is None or baseline_id == revision.pk or not records
+            or any(r.review_path != ReviewPath.LIGHT or r.class_changed
+                   or r.approved_revision_id != baseline_id for r in records)):
+        return True, None
+    approved = ProcessRevision.objects.using(using).get(pk=baseline_id)
+    baseline = approved.content
+    if (baseline.get("schema") != content.get("schema")
+            or baseline.get("process") != content.get("process")
+            or [s["id"] for s in baseline["steps"]] != [s["id"] for s in content["steps"]]):
+        return True, None
+    by_step = {r.step_id: r for r in records}
+    for before, after in zip(baseline["steps"], content["steps"], strict=True):
+        if before == after:
+            continue
+        record, old, new = by_step.get(after["id"]), before["indicators"], after["indicators"]
+        if (record is None or old is None or new is None
+                or record.current_inputs_hash != new["inputs_hash"]
+                or old["criticality_class"] != new["criticality_class"]
+                or any(row["beyond_tolerance"] for row in
+                       moved_indicators(old["values"], new["values"], policy).values())):
+            return True, None
+    return True, LIGHT_PATH_USED.format(records=", ".join(str(r.pk) for r in records),
+                                        baseline=approved.number)
+
+
 def on_approved_inputs_changed(sender, *, using="default", steps, snapshots, previous,
                                **kwargs) -> None:
     record_changes(steps=steps, snapshots=snapshots, previous=previous, using=using)

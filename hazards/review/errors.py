@@ -26,6 +26,9 @@ UNKNOWN_MEANING = "The meaning of a signature is authored, reviewed or approved.
 NOT_DRAFTING = "Only a revision being drafted can be lodged."
 NOT_LODGED = "Only a lodged revision can be checked."
 NOT_CHECKED = "Only a checked revision can be endorsed."
+NOT_WITHIN_LIGHT_PATH = ("Only a checked revision can be endorsed: the lighter review path "
+                         "(no reviewer step) needs every open change of the process within "
+                         "the site's tolerances and the same criticality class.")
 NOT_UNDER_REVIEW = "Only a lodged or checked revision can be sent back."
 REVISION_IN_PROGRESS = "The process already has a revision in progress."
 NO_STEPS = "A revision needs at least one reaction step with current indicators."

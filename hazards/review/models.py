@@ -46,6 +46,9 @@ ALLOWED_TRANSITIONS = (
     (ReviewState.DRAFTING, ReviewState.LODGED),
     (ReviewState.LODGED, ReviewState.CHECKED),
     (ReviewState.CHECKED, ReviewState.ENDORSED),
+    # The lighter review path: only with an "approved" and no "reviewed" signature (see
+    # `revision_guard_update`), which `signature_in_order` admits only on the light path.
+    (ReviewState.LODGED, ReviewState.ENDORSED),
     (ReviewState.LODGED, ReviewState.SENT_BACK),
     (ReviewState.CHECKED, ReviewState.SENT_BACK),
     (ReviewState.LODGED, ReviewState.REPLACED),
@@ -149,6 +152,15 @@ class ProcessRevision(models.Model):
                         RAISE EXCEPTION 'review: revision % cannot move from % to %',
                             OLD.id, OLD.state, NEW.state;
                     END IF;
+                    IF OLD.state = 'lodged' AND NEW.state = 'endorsed' AND (
+                        NOT EXISTS (SELECT 1 FROM review_signature
+                                     WHERE revision_id = OLD.id AND meaning = 'approved')
+                        OR EXISTS (SELECT 1 FROM review_signature
+                                    WHERE revision_id = OLD.id AND meaning = 'reviewed')) THEN
+                        RAISE EXCEPTION
+                            'review: revision % is endorsed from lodged only on the light path',
+                            OLD.id;
+                    END IF;
                     RETURN NEW;
                 """,
             ),
@@ -188,11 +200,32 @@ class Signature(models.Model):
                 when=pgtrigger.Before,
                 operation=pgtrigger.Insert,
                 declare=[("expected", "text"), ("signed", "text")],
+                # "approved" straight after "authored" only on the lighter review path: the
+                # revision is lodged, its site allows the path, and its process has open
+                # change records, all light and none changing the class.
                 func="""
                     SELECT CASE count(*) WHEN 0 THEN 'authored' WHEN 1 THEN 'reviewed'
                                          WHEN 2 THEN 'approved' END
                       INTO expected
                       FROM review_signature WHERE revision_id = NEW.revision_id;
+                    IF expected = 'reviewed' AND NEW.meaning = 'approved'
+                       AND EXISTS (
+                           SELECT 1 FROM review_processrevision r
+                             JOIN hazards_process p ON p.id = r.process_id
+                             JOIN oversight_changepolicy cp ON cp.site_id = p.site_id
+                            WHERE r.id = NEW.revision_id AND r.state = 'lodged'
+                              AND cp.light_review_allowed)
+                       AND EXISTS (
+                           SELECT 1 FROM oversight_changerecord c
+                             JOIN review_processrevision r ON r.process_id = c.process_id
+                            WHERE r.id = NEW.revision_id AND c.state = 'open')
+                       AND NOT EXISTS (
+                           SELECT 1 FROM oversight_changerecord c
+                             JOIN review_processrevision r ON r.process_id = c.process_id
+                            WHERE r.id = NEW.revision_id AND c.state = 'open'
+                              AND (c.review_path <> 'light' OR c.class_changed)) THEN
+                        expected := 'approved';
+                    END IF;
                     IF NEW.meaning IS DISTINCT FROM expected THEN
                         RAISE EXCEPTION 'review: revision % expects a signature meaning %',
                             NEW.revision_id, coalesce(expected, 'nothing more');

@@ -14,6 +14,7 @@ from django.views.decorators.http import require_POST
 
 from hazards.access import roles_on
 from hazards.models import Process
+from hazards.oversight.changes import light_path
 from hazards.review import errors as E
 from hazards.review.models import (
     OPEN_STATES,
@@ -131,6 +132,8 @@ def _review_context(request, process, revision, **extra):
         "now": dt.datetime.now(dt.UTC),
         "finding_form": FindingForm(process=process),
         "shows_indicators": True,
+        "light_path": revision is not None and revision.state == ReviewState.LODGED
+        and light_path(revision=revision, content=revision.content)[1] is not None,
     }
     if context["actions"]["sign"]:
         context.setdefault("sign_form", SignForm(initial={

@@ -7,8 +7,14 @@ checks permission and state after the lock, writes a `Transition` row and raises
     drafting --submit (author signs "authored")--> lodged
     lodged   --review (reviewer signs "reviewed")--> checked
     checked  --approve (approver signs "approved")--> endorsed
+    lodged   --approve on the lighter review path (approver signs "approved")--> endorsed
     lodged | checked --send back (reviewer / approver, with a reason)--> sent_back
     lodged | checked | endorsed --content changed--> replaced
+
+The lighter review path (issue 10 item 2): a lodged revision that replaces an approved one
+may be endorsed without the reviewer's step when its site allows it and every open change
+record of the process is within the site's tolerances (`hazards.oversight.changes.light_path`);
+the transition row says so and why. Author and approver are still two people.
 
 Leaving a revision by sending it back or replacing it opens the next draft of the process.
 """
@@ -154,8 +160,17 @@ def _sign_locked(revision_id, user, meaning, role, needed, to_state, role_error,
     _lock_process_tree(revision.process_id)
     if role not in roles_on(user, revision.process_id):
         raise E.NotPermitted(role_error)
-    if revision.state != needed:
+    light_candidate = meaning == Meaning.APPROVED and revision.state == ReviewState.LODGED
+    if revision.state != needed and not light_candidate:
         raise E.TransitionRefused(state_error)
+    if light_candidate:
+        # Its content is frozen; a stale one is refused below before anything is signed.
+        from hazards.oversight.changes import light_path
+
+        allowed, light_reason = light_path(revision=revision, content=revision.content, lock=True)
+        if light_reason is None:
+            raise E.TransitionRefused(E.NOT_WITHIN_LIGHT_PATH if allowed else state_error)
+        reason = f"{light_reason} {reason}".strip()
     if revision.signatures.filter(signer=user).exists():
         raise E.NotPermitted(E.SAME_PERSON)
     live = _content(Process(pk=revision.process_id))
