@@ -135,5 +135,7 @@ def test_no_sequence_of_api_calls_endorses_without_three_ordered_distinct_signat
     Workflow.endorsements = 0
     run_state_machine_as_test(Workflow, settings=settings(
         max_examples=15, stateful_step_count=10, deadline=None, database=None,
-        suppress_health_check=list(HealthCheck)))
+        # Fixed examples: the same sequences in every run, so the check below that an
+        # endorsement was reached cannot depend on luck (it did, 1 run in 5).
+        derandomize=True, suppress_health_check=list(HealthCheck)))
     assert Workflow.endorsements > 0
