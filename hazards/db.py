@@ -7,7 +7,6 @@ same in the demo, the test suite and production.
 from __future__ import annotations
 
 import os
-import sys
 from pathlib import Path
 
 import dj_database_url
@@ -74,8 +73,3 @@ def describe(config: dict) -> str:
     port = config.get("PORT") or ""
     where = f"{host}:{port}" if port else host
     return f"{config.get('NAME')} on {where}"
-
-
-def fail(message: str) -> None:
-    print(f"exoledger: {message}", file=sys.stderr)
-    raise SystemExit(2)

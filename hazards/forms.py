@@ -56,9 +56,3 @@ def quantity_formfield_callback(model):
         return quantity_formfield(field) or field.formfield(**kwargs)
 
     return callback
-
-
-def quantity_modelform(model, fields="__all__"):
-    return forms.modelform_factory(
-        model, fields=fields, formfield_callback=quantity_formfield_callback(model)
-    )
