@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import re
 
+from django.db import transaction
 from rest_framework.response import Response
 
 from hazards.api.errors import ProblemError
@@ -85,7 +86,10 @@ class ETagMixin:
     def update(self, request, *args, **kwargs):
         instance = self.get_object()
         self.expected_version = expected_version(request, instance)
-        response = super().update(request, *args, **kwargs)
+        # The response is built inside the write's transaction: a database lost while the
+        # answer is read back rolls the write back, so a 503 never hides a committed edit.
+        with transaction.atomic():
+            response = super().update(request, *args, **kwargs)
         written = getattr(self, "_written", None)
         if written is not None:
             response["ETag"] = etag_for(written)
