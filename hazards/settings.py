@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import os
 import sys
 from pathlib import Path
 
@@ -214,6 +215,9 @@ DOSSIER_RENDER_MEMORY_BYTES = env_int(
 DOSSIER_RENDER_LEASE_SECONDS = env_int(
     "EXOLEDGER_DOSSIER_LEASE_SECONDS", DOSSIER_RENDER_TIMEOUT_SECONDS * 2 + 60, minimum=1)
 DOSSIER_RENDER_MAX_ATTEMPTS = 3
+# Charts of a long dossier are drawn on this many forked processes (1: in the worker itself).
+DOSSIER_CHART_PROCESSES = env_int(
+    "EXOLEDGER_DOSSIER_CHART_PROCESSES", min(os.cpu_count() or 1, 4), minimum=1)
 
 # API tokens live this long unless a shorter life is asked for.
 API_TOKEN_TTL_HOURS = env_int("EXOLEDGER_API_TOKEN_TTL_HOURS", 24 * 30, minimum=1)

@@ -16,11 +16,14 @@ from __future__ import annotations
 
 import io
 import math
+import multiprocessing
+import threading
+from concurrent.futures import ProcessPoolExecutor
 
 import matplotlib
 import numpy as np
 from matplotlib.figure import Figure
-from matplotlib.ticker import FuncFormatter, NullFormatter
+from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
 
 from calcs.accumulation import analyse_accumulation
 from calcs.constants import DAY, HOUR, T_ZERO_C, R
@@ -63,9 +66,13 @@ def _c(kelvin):
     return None if kelvin is None else kelvin - T_ZERO_C
 
 
-def _figure():
+def _figure(title: str):
     fig = Figure(figsize=(WIDTH_IN, HEIGHT_IN))
     ax = fig.add_axes((0.15, 0.46, 0.62, 0.47))
+    # A fixed title position: matplotlib would otherwise measure every tick label of every
+    # axis at each draw to place it (a third of a chart's drawing time). No chart puts tick
+    # labels above its plot, so the place is the same.
+    ax.set_title(title, y=1.0, pad=5.0)
     return fig, ax
 
 
@@ -91,19 +98,54 @@ def _svg(fig) -> str:
                         f"font-family: '{FONT_FAMILY}', 'DejaVu Sans', sans-serif")
 
 
-def _level(ax, value_c, label, style, colour=MID):
-    if value_c is None:
+LABEL_GAP_PT = 8.0  # vertical room one level label needs (legend-size text)
+
+
+def _spread(positions: list[float], gap: float, low: float, high: float) -> list[float]:
+    """Label heights (points) moved apart by at least `gap`, kept within [low, high].
+
+    Sorted positions are pushed up where they crowd, then the stack is pushed back down
+    from the top if it left the plot. Order is kept, so a label stays beside its own line.
+    """
+    placed: list[float] = []
+    for y in positions:
+        placed.append(max(y, placed[-1] + gap) if placed else max(y, low))
+    overflow = placed[-1] - high if placed else 0.0
+    if overflow > 0:
+        placed = [y - overflow for y in placed]
+        for i in range(len(placed) - 2, -1, -1):
+            placed[i] = min(placed[i], placed[i + 1] - gap)
+    return placed
+
+
+def _levels(ax, levels):
+    """Horizontal lines at temperatures, each labelled at the right edge of the plot.
+
+    `levels` holds (value °C or None, label, line style, colour). Call it after the y limits
+    are final: labels of close levels (MTT and TD24 a few kelvin apart, say) are moved apart
+    in points so they never print over each other, with a thin leader to their line.
+    """
+    shown = sorted((lv for lv in levels if lv[0] is not None), key=lambda lv: lv[0])
+    if not shown:
         return
-    ax.axhline(value_c, linestyle=style, color=colour, linewidth=1.0)
-    ax.annotate(f"{label} {value_c:.0f} °C", xy=(1.0, value_c), xycoords=("axes fraction", "data"),
-                xytext=(3, 0), textcoords="offset points", va="center", ha="left", fontsize=6.6,
-                color=INK)
+    y0, y1 = ax.get_ylim()
+    height_pt = ax.get_position().height * ax.figure.get_figheight() * 72.0
+    to_pt = height_pt / (y1 - y0)
+    wanted = [(value - y0) * to_pt for value, *_ in shown]
+    placed = _spread(wanted, LABEL_GAP_PT, -LABEL_GAP_PT, height_pt + LABEL_GAP_PT)
+    for (value, label, style, colour), want, got in zip(shown, wanted, placed, strict=True):
+        ax.axhline(value, linestyle=style, color=colour, linewidth=1.0)
+        moved = abs(got - want) > 0.5
+        ax.annotate(f"{label} {value:.0f} °C", xy=(1.0, value),
+                    xycoords=("axes fraction", "data"), xytext=(6 if moved else 3, got - want),
+                    textcoords="offset points", va="center", ha="left", fontsize=6.6, color=INK,
+                    arrowprops={"arrowstyle": "-", "linewidth": 0.5, "color": MID,
+                                "shrinkA": 0, "shrinkB": 0} if moved else None)
 
 
 def _message(title: str, message: str) -> str:
     with matplotlib.rc_context(_RC):
-        fig, ax = _figure()
-        ax.set_title(title)
+        fig, ax = _figure(title)
         ax.set_axis_off()
         ax.text(0.5, 0.5, message, ha="center", va="center", wrap=True, fontsize=8.5,
                 transform=ax.transAxes)
@@ -160,8 +202,7 @@ def cooling_failure_chart(snapshot) -> str:
     rise_note = "at the peak heat-release rate" if (rate and cp) else "schematic duration"
     model = decomposition_model(snap)
     with matplotlib.rc_context(_RC):
-        fig, ax = _figure()
-        ax.set_title(title)
+        fig, ax = _figure(title)
         pre = max(0.25, 0.15 * t_rise_h)
         ax.plot([-pre, 0], [_c(tp)] * 2, color=INK, linestyle="-", label="normal operation")
         ax.plot([0, t_rise_h], [_c(tp), _c(mtsr)], color=INK, linestyle="--", marker="o",
@@ -186,19 +227,24 @@ def cooling_failure_chart(snapshot) -> str:
             ax.annotate("≈", xy=(t_rise_h + gap / 2, _c(mtsr)), ha="center", va="center",
                         fontsize=11, color=INK)
             end_h = t_rise_h + gap + span * 1.05
-            ticks = [t for t in np.arange(0.0, t_rise_h + 1e-9, _step(t_rise_h))]
+            # Ticks of the synthesis part, none closer than 8 % of the axis to the one before
+            # ("0" and "0.1" would print into each other when the rise is short).
+            room = 0.08 * (end_h + pre)
+            ticks = []
+            for t in np.arange(0.0, t_rise_h + 1e-9, _step(t_rise_h)):
+                if not ticks or t - ticks[-1] >= room:
+                    ticks.append(float(t))
             ax.set_xticks(ticks + [t_rise_h + gap + span])
             ax.set_xticklabels([f"{t:g}" for t in ticks] + [f"+{tmr_h:.3g}"])
             note += "after the break (≈) the time axis is compressed to TMRad."
         else:
             note += "no decomposition data for the runaway branch."
         _note(fig, note)
-        _level(ax, _c(tp), "Tp", ":")
-        _level(ax, _c(mtsr), "MTSR", "--", LIGHT)
-        _level(ax, _c(mtt), "MTT", (0, (5, 2)))
-        _level(ax, _c(td24), "TD24", (0, (3, 1, 1, 1)))
         top = max(v for v in (mtsr, mtt, td24, tp) if v is not None)
         ax.set_ylim(_c(tp) - 15, _c(top) + 25)
+        _levels(ax, [(_c(tp), "Tp", ":", MID), (_c(mtsr), "MTSR", "--", LIGHT),
+                     (_c(mtt), "MTT", (0, (5, 2)), MID),
+                     (_c(td24), "TD24", (0, (3, 1, 1, 1)), MID)])
         ax.set_xlim(-pre, end_h)
         ax.axvline(0, color=LIGHT, linewidth=0.8)
         ax.annotate("cooling fails", xy=(0, _c(tp)), xytext=(3, -12), textcoords="offset points",
@@ -241,8 +287,7 @@ def accumulation_chart(snapshot, series: dict | None = None) -> str | None:
                   "plateau assumed until the end of feed")
         i_max = int(np.argmax(mtsr_t))
     with matplotlib.rc_context(_RC):
-        fig, ax = _figure()
-        ax.set_title(title)
+        fig, ax = _figure(title)
         ax.plot(t_h, np.asarray(f_d) * 100, color=LIGHT, linestyle=":", label="dosed (% of feed)")
         ax.plot(t_h, np.asarray(x_ac) * 100, color=INK, linestyle="--",
                 label="accumulation X_ac (%)")
@@ -253,11 +298,16 @@ def accumulation_chart(snapshot, series: dict | None = None) -> str | None:
         right.plot(t_h, _c(np.asarray(mtsr_t)), color=INK, linestyle="-", marker="s",
                    markevery=[i_max], label="MTSR(t) (°C, right axis)")
         right.set_ylabel("MTSR(t) / °C")
-        for level, name, style in ((values.get("mtt_k"), "MTT", (0, (5, 2))),
-                                   (values.get("td24_k"), "TD24", (0, (3, 1, 1, 1)))):
-            lo, hi = float(np.min(mtsr_t)), float(np.max(mtsr_t))
-            if level is not None and level < hi + 0.6 * (hi - lo + 20):
-                _level(right, _c(level), name, style)
+        lo, hi = float(np.min(mtsr_t)), float(np.max(mtsr_t))
+        # MTT and TD24 only where they are near enough not to squash MTSR(t) into a line.
+        near = [(_c(level), name, style, MID) for level, name, style in (
+            (values.get("mtt_k"), "MTT", (0, (5, 2))),
+            (values.get("td24_k"), "TD24", (0, (3, 1, 1, 1))))
+            if level is not None and level < hi + 0.6 * (hi - lo + 20)]
+        bottom, top = _c(lo), max([_c(hi)] + [lv[0] for lv in near])
+        pad = 0.08 * max(top - bottom, 2.0)
+        right.set_ylim(bottom - pad, top + pad)
+        _levels(right, near)
         lines = ax.get_lines() + right.get_lines()[:1]
         _legend(ax, lines, [line.get_label() for line in lines])
         _note(fig, source)
@@ -279,8 +329,7 @@ def tmr_chart(snapshot) -> str:
     temps = np.linspace(lo, hi, 120)
     tmr_h = np.array([tmr_zero_order_at(t, cp, ea, td24, q24) for t in temps]) / HOUR
     with matplotlib.rc_context(_RC):
-        fig, ax = _figure()
-        ax.set_title(title)
+        fig, ax = _figure(title)
         ax.semilogy(_c(temps), tmr_h, color=INK, linestyle="-", label="TMRad, zero order")
         ax.axhline(24, color=MID, linestyle="--", linewidth=1.0, label="24 h")
         ax.axhline(8, color=LIGHT, linestyle=":", linewidth=1.0, label="8 h")
@@ -300,6 +349,9 @@ def tmr_chart(snapshot) -> str:
         # Plain numbers on the log axis: no mathtext to parse (a third of a chart's drawing time).
         ax.yaxis.set_major_formatter(FuncFormatter(_plain_number))
         ax.yaxis.set_minor_formatter(NullFormatter())
+        # Minor ticks at 2 and 5 of each decade only: enough to read a time off the log axis,
+        # and each tick is a handful of artists to lay out.
+        ax.yaxis.set_minor_locator(LogLocator(base=10.0, subs=(2.0, 5.0)))
         ax.set_xlim(_c(lo), _c(hi))
         _legend(ax)
         label = (snap.get("parameters") or {}).get("td24_label")
@@ -320,8 +372,7 @@ def heat_release_chart(snapshot, series: dict | None = None) -> str:
                                "cannot be compared.")
     plant_mass = inputs.get("reaction_mass_kg")
     with matplotlib.rc_context(_RC):
-        fig, ax = _figure()
-        ax.set_title(title)
+        fig, ax = _figure(title)
         if series and series.get("time_s") and plant_mass:
             t = np.asarray(series["time_s"], dtype=float)
             fd = np.asarray(series["dosed_fraction"], dtype=float)
@@ -366,3 +417,26 @@ def step_charts(snapshot, series: dict | None = None) -> dict[str, str]:
         "heat_release": heat_release_chart(snapshot, series),
     }
     return {name: svg for name, svg in charts.items() if svg is not None}
+
+
+def _step_charts_of(item: tuple) -> dict[str, str]:
+    snapshot, series = item
+    return step_charts(snapshot, series)
+
+
+def charts_of_steps(items: list[tuple], *, processes: int = 1,
+                    timeout: float | None = None) -> list[dict[str, str]]:
+    """`step_charts` of many (snapshot dict, series) pairs, in order, on several processes.
+
+    A chart takes tens of milliseconds of pure Python in matplotlib, so a long dossier spreads
+    its steps over forked processes, one per core. The SVGs are the same bytes whichever
+    process draws them (fixed ids, no dates). Forking is done only from a single-threaded
+    process, where no other thread can hold a lock the children would inherit; otherwise, and
+    for a few steps, the charts are drawn here.
+    """
+    workers = min(processes, len(items) // 2)
+    if workers < 2 or threading.active_count() > 1:
+        return [_step_charts_of(item) for item in items]
+    context = multiprocessing.get_context("fork")
+    with ProcessPoolExecutor(max_workers=workers, mp_context=context) as pool:
+        return list(pool.map(_step_charts_of, items, timeout=timeout))

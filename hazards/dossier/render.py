@@ -77,8 +77,10 @@ def build_job(content: dict, meta: DossierMeta) -> PdfJob:
     """Everything WeasyPrint needs, computed from the frozen content only."""
     view = dossier_view(content, meta)
     chart_map = {}
-    for step in view["steps"]:
-        svgs = ch.step_charts(step["snapshot"], step["series"])
+    drawn = ch.charts_of_steps([(step["snapshot"], step["series"]) for step in view["steps"]],
+                               processes=settings.DOSSIER_CHART_PROCESSES,
+                               timeout=settings.DOSSIER_RENDER_TIMEOUT_SECONDS)
+    for step, svgs in zip(view["steps"], drawn, strict=True):
         step["charts"] = []
         for name, svg in svgs.items():
             key = f"step-{step['id']}-{name}.svg"

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import re
 
+import pytest
+
 from hazards.dossier import charts
 from tests.dossier.conftest import c17_series
 
@@ -60,3 +62,57 @@ def test_without_a_series_the_accumulation_chart_says_it_is_an_estimate():
 def test_a_chart_without_its_data_says_why_instead_of_drawing():
     empty = {"inputs": {"operation_mode": "batch"}, "values": {}}
     assert "TMRad and TD24 unknown" in _texts(charts.tmr_chart(empty))
+
+
+def _label_heights(svg: str) -> dict[str, float]:
+    """SVG y of each level label ('MTT 111 °C' -> 'MTT'), in points from the top."""
+    return {m.group(2): float(m.group(1)) for m in re.finditer(
+        r'<text[^>]* y="([-0-9.]+)"[^>]*>((?:Tp|MTSR|MTT|TD24)) -?[0-9]+ °C</text>', svg)}
+
+
+def test_labels_of_close_levels_are_moved_apart_and_keep_their_order():
+    # MTT and TD24 2 K apart, Tp and MTSR 3 K apart: on a 140 K axis of ~118 pt these labels
+    # would sit 1.7 pt and 2.5 pt apart, printed over each other.
+    close = {**SNAP, "values": {**SNAP["values"], "mtt_k": 383.75, "td24_k": 385.75,
+                                "mtsr_k": 306.15}}
+    heights = _label_heights(charts.cooling_failure_chart(close))
+    assert set(heights) == {"Tp", "MTSR", "MTT", "TD24"}
+    # SVG y grows downwards: a hotter level's label is higher on the page, 8 pt apart at least.
+    order = sorted(heights, key=heights.get)
+    assert order == ["TD24", "MTT", "MTSR", "Tp"]
+    gaps = [heights[b] - heights[a] for a, b in zip(order, order[1:], strict=False)]
+    assert min(gaps) >= charts.LABEL_GAP_PT - 0.01, gaps
+
+
+def test_labels_of_levels_far_apart_stay_at_their_lines():
+    # SNAP: Tp 30, MTSR 41, MTT 111, TD24 115 °C; only MTT/TD24 crowd, so Tp and MTSR keep the
+    # height of their own lines. The axis runs from Tp - 15 K to TD24 + 25 K (125 K) over
+    # 0.47 x 3.5 in = 118.44 pt, so the 11.42 K from Tp to MTSR are 10.82 pt, more than the gap.
+    heights = _label_heights(charts.cooling_failure_chart(SNAP))
+    assert heights["Tp"] - heights["MTSR"] == pytest.approx(11.42 * 118.44 / 125.0, abs=0.05)
+    assert heights["MTT"] - heights["TD24"] == pytest.approx(charts.LABEL_GAP_PT, abs=0.01)
+
+
+def test_spread_moves_only_crowded_labels_and_stays_inside_the_plot():
+    assert charts._spread([0.0, 20.0, 40.0], 8.0, -8.0, 100.0) == [0.0, 20.0, 40.0]
+    assert charts._spread([10.0, 11.0, 12.0], 8.0, -8.0, 100.0) == [10.0, 18.0, 26.0]
+    # At the top the stack is pushed down instead of out of the plot.
+    assert charts._spread([99.0, 100.0], 8.0, -8.0, 100.0) == [92.0, 100.0]
+
+
+def test_a_short_synthesis_does_not_print_time_ticks_into_each_other():
+    # A rise of 0.12 h next to a runaway drawn over 1 h: ticks 0 and 0.1 h would be 11 pt apart.
+    short = {**SNAP, "inputs": {**SNAP["inputs"], "max_heat_release_rate_w_per_kg": 53.0}}
+    svg = charts.cooling_failure_chart(short)
+    ticks = re.findall(r'<g id="xtick_\d+">.*?<text[^>]*>([^<]*)</text>', svg, re.DOTALL)
+    assert "0.1" not in ticks and "0" in ticks, ticks
+
+
+def test_charts_of_many_steps_are_the_same_bytes_on_several_processes_as_on_one():
+    batch = {**SNAP, "inputs": {**SNAP["inputs"], "operation_mode": "batch"}}
+    items = [(SNAP, SERIES), (batch, None), (SNAP, None), (batch, SERIES), (SNAP, SERIES)]
+    serial = charts.charts_of_steps(items, processes=1)
+    assert charts.charts_of_steps(items, processes=2) == serial
+    assert [set(c) for c in serial][:2] == [
+        {"cooling_failure", "accumulation", "tmr", "heat_release"},
+        {"cooling_failure", "tmr", "heat_release"}]
