@@ -18,7 +18,6 @@ import io
 import math
 import multiprocessing
 import threading
-from concurrent.futures import ProcessPoolExecutor
 
 import matplotlib
 import numpy as np
@@ -432,11 +431,18 @@ def charts_of_steps(items: list[tuple], *, processes: int = 1,
     its steps over forked processes, one per core. The SVGs are the same bytes whichever
     process draws them (fixed ids, no dates). Forking is done only from a single-threaded
     process, where no other thread can hold a lock the children would inherit; otherwise, and
-    for a few steps, the charts are drawn here.
+    for a few steps, the charts are drawn here. Past `timeout` seconds the processes are
+    killed and `TimeoutError` is raised. Each chart's work is bounded by its data (series are
+    frozen at `SERIES_POINTS` points), so no memory limit is set on these processes.
     """
     workers = min(processes, len(items) // 2)
     if workers < 2 or threading.active_count() > 1:
         return [_step_charts_of(item) for item in items]
-    context = multiprocessing.get_context("fork")
-    with ProcessPoolExecutor(max_workers=workers, mp_context=context) as pool:
-        return list(pool.map(_step_charts_of, items, timeout=timeout))
+    pool = multiprocessing.get_context("fork").Pool(workers)
+    try:
+        return pool.map_async(_step_charts_of, items, chunksize=1).get(timeout)
+    except multiprocessing.TimeoutError:
+        raise TimeoutError(f"drawing the charts took longer than {timeout:g} s") from None
+    finally:
+        pool.terminate()
+        pool.join()

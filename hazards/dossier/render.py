@@ -77,9 +77,13 @@ def build_job(content: dict, meta: DossierMeta) -> PdfJob:
     """Everything WeasyPrint needs, computed from the frozen content only."""
     view = dossier_view(content, meta)
     chart_map = {}
-    drawn = ch.charts_of_steps([(step["snapshot"], step["series"]) for step in view["steps"]],
-                               processes=settings.DOSSIER_CHART_PROCESSES,
-                               timeout=settings.DOSSIER_RENDER_TIMEOUT_SECONDS)
+    try:
+        drawn = ch.charts_of_steps(
+            [(step["snapshot"], step["series"]) for step in view["steps"]],
+            processes=settings.DOSSIER_CHART_PROCESSES,
+            timeout=settings.DOSSIER_RENDER_TIMEOUT_SECONDS)
+    except TimeoutError as exc:
+        raise RenderError(str(exc)) from None
     for step, svgs in zip(view["steps"], drawn, strict=True):
         step["charts"] = []
         for name, svg in svgs.items():

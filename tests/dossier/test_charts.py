@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import re
+import time
 
 import pytest
 
@@ -116,3 +117,16 @@ def test_charts_of_many_steps_are_the_same_bytes_on_several_processes_as_on_one(
     assert [set(c) for c in serial][:2] == [
         {"cooling_failure", "accumulation", "tmr", "heat_release"},
         {"cooling_failure", "tmr", "heat_release"}]
+
+
+def _hangs(item):
+    time.sleep(30)
+
+
+def test_charts_past_their_time_are_stopped_with_a_timeout(monkeypatch):
+    # Forked processes run the patched function; the pool is killed, not waited for 30 s.
+    monkeypatch.setattr(charts, "_step_charts_of", _hangs)
+    started = time.monotonic()
+    with pytest.raises(TimeoutError, match="longer than 0.5 s"):
+        charts.charts_of_steps([(SNAP, None)] * 4, processes=2, timeout=0.5)
+    assert time.monotonic() - started < 10
