@@ -73,6 +73,12 @@ def _content_type(path: Path) -> str:
             ".png": "image/png"}.get(path.suffix, "application/octet-stream")
 
 
+def preload() -> None:
+    """Import WeasyPrint and its text stack ahead of a render (half a second or more)."""
+    import weasyprint  # noqa: F401
+    import weasyprint.text.fonts  # noqa: F401
+
+
 def write_pdf(job: PdfJob) -> bytes:
     """Render the job; the same job gives the same bytes (fonts shipped, dates from the record)."""
     when = record_datetime(job.record_date)

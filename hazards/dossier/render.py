@@ -118,16 +118,27 @@ def render_sandboxed(content: dict, meta: DossierMeta, *, timeout: float | None 
     """Render in a child process bounded in memory (RLIMIT_AS), CPU and wall-clock time."""
     timeout = settings.DOSSIER_RENDER_TIMEOUT_SECONDS if timeout is None else timeout
     memory = settings.DOSSIER_RENDER_MEMORY_BYTES if memory_bytes is None else memory_bytes
-    job = build_job(content, meta)
     env = {**os.environ, "OPENBLAS_NUM_THREADS": "1", "OMP_NUM_THREADS": "1",
            "PYTHONPATH": os.pathsep.join([str(ROOT), os.environ.get("PYTHONPATH", "")])}
     argv = [sys.executable, "-m", "hazards.dossier.sandbox", str(int(memory)),
             str(max(1, int(timeout) + 1))]
+    # The child starts first and imports WeasyPrint while the charts are drawn here.
+    child = subprocess.Popen(argv, stdin=subprocess.PIPE, stdout=subprocess.PIPE,
+                             stderr=subprocess.PIPE, env=env, cwd=ROOT)
     try:
-        proc = subprocess.run(argv, input=json.dumps(job.to_json()).encode(), capture_output=True,
-                              timeout=timeout, env=env, cwd=ROOT, check=False)
+        job = build_job(content, meta)
+        payload = json.dumps(job.to_json()).encode()
+    except BaseException:
+        child.kill()
+        child.communicate()
+        raise
+    try:
+        stdout, stderr = child.communicate(payload, timeout=timeout)
     except subprocess.TimeoutExpired:
+        child.kill()
+        child.communicate()
         raise RenderError(f"rendering took longer than its limit of {timeout:g} s") from None
+    proc = subprocess.CompletedProcess(argv, child.returncode, stdout, stderr)
     if proc.returncode == 0 and proc.stdout.startswith(b"%PDF-"):
         return proc.stdout
     err = [line for line in proc.stderr.decode("utf-8", "replace").strip().splitlines()

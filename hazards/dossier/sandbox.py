@@ -1,7 +1,7 @@
 """Render one PdfJob in a child process with a memory and CPU-time limit.
 
 Run as `python -m hazards.dossier.sandbox MEMORY_BYTES CPU_SECONDS`: the job arrives as JSON
-on stdin, the PDF leaves on stdout. The limits are set before WeasyPrint is imported
+on stdin (an empty object: no job, exit), the PDF leaves on stdout. The limits are set before WeasyPrint is imported
 (RLIMIT_AS for memory, RLIMIT_CPU for time); the parent adds a wall-clock timeout and kills
 the child past it. WeasyPrint keeps the whole document in memory and does not give memory
 back after a render (INTEGRITY.md §4.5), so a render never runs in a worker's own process.
@@ -34,9 +34,14 @@ def main(argv: list[str]) -> int:
     if cpu > 0:
         resource.setrlimit(resource.RLIMIT_CPU, (cpu, cpu + 1))
     try:
-        job_data = json.loads(sys.stdin.buffer.read())
-        from hazards.dossier.pdf import PdfJob, write_pdf
+        # WeasyPrint is imported before the job is read: the parent starts this process
+        # first and draws the charts meanwhile, so the import costs no time of the render.
+        from hazards.dossier.pdf import PdfJob, preload, write_pdf
 
+        preload()
+        job_data = json.loads(sys.stdin.buffer.read())
+        if not job_data:
+            return EXIT_ERROR  # the parent gave up before sending a job
         pdf = write_pdf(PdfJob(**job_data))
     except MemoryError:
         sys.stderr.write("dossier render exceeded its memory limit\n")
