@@ -73,6 +73,35 @@ INDICATORS = [
     ("end_pressure_pa", "Pressure at MTSR (closed vessel)", _BAR, "end_pressure"),
 ]
 
+# calcs parameter key -> (label, display unit and SI -> display); text values print as they are.
+PARAMETERS = {
+    "accumulation_at_max_mtsr": ("Accumulation at the MTSR maximum", ("%", lambda x: x * 100)),
+    "max_accumulation": ("Maximum accumulation of the series", ("%", lambda x: x * 100)),
+    "series_end_criterion": ("End of reaction in the series", None),
+    "kissinger_activation_energy_j_per_mol": ("Activation energy Ea (Kissinger fit)",
+                                              ("kJ/mol", lambda x: x / 1000)),
+    "kissinger_pre_exponential_per_s": ("Pre-exponential factor A (Kissinger fit)",
+                                        ("1/s", lambda x: x)),
+    "assumed_activation_energy_j_per_mol": ("Activation energy Ea assumed",
+                                            ("kJ/mol", lambda x: x / 1000)),
+    "screening_activation_energy_j_per_mol": ("Activation energy Ea assumed for the screen",
+                                              ("kJ/mol", lambda x: x / 1000)),
+    "screening_heat_release_rate_w_per_kg": ("Heat-release rate assumed at the onset",
+                                             ("W/kg", lambda x: x)),
+    "td24_label": ("Kind of TD24", None),
+    "corrected_onset_k": ("Onset corrected for the φ factor", _C),
+    "arc_detection_rate_k_per_s": ("Detection threshold of the adiabatic test",
+                                   ("K/min", lambda x: x * 60)),
+    "b_parameter_at_mtsr": ("B = Ea·ΔTad,dec / (R·MTSR²) at MTSR", _PLAIN),
+    "risk_matrix": ("Risk matrix", None),
+    "severity_scale": ("Severity scale", None),
+    "probability_scale": ("Probability scale", None),
+    "vapour_pressure_source": ("Vapour-pressure data", None),
+    "operating_pressure_pa_assumed": ("Operating pressure assumed", _BAR),
+    "pad_pressure_at_process_temperature_pa": ("Pad-gas pressure at Tp", _BAR),
+    "gas_released_mol": ("Gas released in the vessel", ("mol", lambda x: x)),
+}
+
 METHOD_LABELS = {
     "entered": "entered from the calorimetry run",
     "series.trapezoid_per_final_mass": "trapezoid integral of the series, per final mass",
@@ -184,6 +213,16 @@ def _source(kind: str, prov: dict, inputs: dict) -> str:
     return "—"
 
 
+def parameter_row(key: str, value) -> dict:
+    """A parameter a method assumed, with a label and unit a reader knows; the key for tracing."""
+    label, conv = PARAMETERS.get(key, (key, None))
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        shown, unit = _show(value, conv) if conv else (_number(value), "")
+    else:
+        shown, unit = str(value), ""
+    return {"key": key, "label": label, "value": shown, "unit": unit}
+
+
 def _step(step: dict, context: dict) -> dict:
     snap = step.get("snapshot") or step.get("indicators") or {}
     inputs, values = snap.get("inputs") or {}, snap.get("values") or {}
@@ -221,8 +260,7 @@ def _step(step: dict, context: dict) -> dict:
         "series": ser,
         "inputs": input_rows,
         "indicators": indicator_rows,
-        "parameters": [{"key": k, "value": _number(v) if isinstance(v, (int, float)) else str(v)}
-                       for k, v in sorted(params.items())],
+        "parameters": [parameter_row(k, v) for k, v in sorted(params.items())],
         "warnings": list(snap.get("warnings") or []),
         "mtt_override_reason": step.get("mtt_override_reason") or "",
         "criticality_class": values.get("criticality_class"),

@@ -17,10 +17,13 @@ from hazards.web import display
 from hazards.web.forms import LABELS
 
 try:  # the dossier's labels, so a page and its dossier say the same thing
-    from hazards.dossier.view import method_label
+    from hazards.dossier.view import method_label, parameter_row
 except ImportError:  # pragma: no cover - the dossier app is optional for the pages
     def method_label(key: str) -> str:
         return key
+
+    def parameter_row(key: str, value) -> dict:
+        return {"key": key, "label": key, "value": str(value), "unit": ""}
 
 # (snapshot value key, label, quantity kind or None, method key, words that tie warnings to it)
 INDICATORS = [
@@ -44,6 +47,13 @@ INDICATORS = [
      ("pressure", "relief")),
 ]
 KEY_INDICATORS = ("mtsr_k", "mtt_k", "td24_k", "tmr_ad_at_mtsr_s")
+
+
+def parameter_rows(snapshot) -> list[dict]:
+    """What the methods assumed, labelled and in display units as in the dossier."""
+    if snapshot is None:
+        return []
+    return [parameter_row(k, v) for k, v in sorted((snapshot.parameters or {}).items())]
 
 
 def indicator_rows(snapshot) -> list[dict]:

@@ -100,6 +100,7 @@ def step_detail(request, pk):
     return render(request, "hazards/step_detail.html", {
         "step": step, "process": step.process, "snapshot": snapshot,
         "indicator_rows": indicators.indicator_rows(snapshot),
+        "parameter_rows": indicators.parameter_rows(snapshot),
         "groups": groups, "basis": basis, "runs": runs, "tests": tests, "series": series,
         "charts": indicators.chart_images(snapshot, {
             **series.data, "initial_mass_kg": series.initial_mass_kg,

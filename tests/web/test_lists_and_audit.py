@@ -72,3 +72,14 @@ def test_the_start_page_counts_steps_and_processes_by_class(people, process, ste
     assert sum(row["count"] for row in class_counts(people["outsider"])) == 0
     html = client_as(people["author"]).get("/").content.decode()
     assert f'href="/steps/?klass={klass}"' in html
+
+
+def test_the_step_page_names_each_assumed_parameter_with_its_unit(people, step, client_as):
+    # The factory's DSC test has an onset and no Ea: the screening TD24 assumed Ea, whose
+    # number the page gives in kJ/mol under the dossier's label, the calcs key beside it.
+    snapshot = step.snapshots.get(is_current=True)
+    ea = snapshot.parameters["screening_activation_energy_j_per_mol"]
+    page = client_as(people["reviewer"]).get(f"/steps/{step.pk}/").content.decode()
+    assert "<dt>Activation energy Ea assumed for the screen</dt>" in page
+    assert f"<dd>{ea / 1000:.2f} kJ/mol" in page
+    assert "[screening_activation_energy_j_per_mol]" in page
