@@ -117,12 +117,42 @@ def _spread(positions: list[float], gap: float, low: float, high: float) -> list
     return placed
 
 
-def _levels(ax, levels):
+def _freer_side(ax, value, lift_pt: float, text: str) -> str:
+    """'left' or 'right': the end of the plot where a label above `value` covers fewer
+    points of the drawn curves (of every axes of the figure, so a twin's lines count)."""
+    fig = ax.figure
+    pt = fig.dpi / 72.0
+    x0, x1 = ax.bbox.x0, ax.bbox.x1
+    y_line = ax.transData.transform((0.0, value))[1]
+    bottom, top = y_line + lift_pt * pt, y_line + (lift_pt + 8.0) * pt
+    width = (len(text) * 3.9 + 6.0) * pt  # 6.6 pt DejaVu Sans: about 3.9 pt a character
+    boxes = {"left": (x0, x0 + width), "right": (x1 - width, x1)}
+    hits = dict.fromkeys(boxes, 0)
+    for axes in fig.axes:
+        for line in axes.get_lines():
+            xy = np.asarray(line.get_xydata(), dtype=float)
+            if len(xy) < 2 or not np.isfinite(xy).all():
+                continue
+            disp = axes.transData.transform(xy)
+            # Dense along the curve, so a steep segment between two samples counts too.
+            t = np.linspace(0.0, len(disp) - 1.0, 40 * len(disp))
+            xs = np.interp(t, np.arange(len(disp)), disp[:, 0])
+            ys = np.interp(t, np.arange(len(disp)), disp[:, 1])
+            inside_y = (ys >= bottom) & (ys <= top)
+            for side, (left, right) in boxes.items():
+                hits[side] += int(np.count_nonzero(inside_y & (xs >= left) & (xs <= right)))
+    return "right" if hits["right"] < hits["left"] else "left"
+
+
+def _levels(ax, levels, *, inside: bool = False):
     """Horizontal lines at temperatures, each labelled at the right edge of the plot.
 
     `levels` holds (value °C or None, label, line style, colour). Call it after the y limits
     are final: labels of close levels (MTT and TD24 a few kelvin apart, say) are moved apart
-    in points so they never print over each other, with a thin leader to their line.
+    in points so they never print over each other, with a thin leader to their line. With
+    `inside` (a plot whose right edge carries a second axis and its tick labels) the labels
+    sit inside the plot above their line on a white ground, at the end where they cover
+    less of the curves.
     """
     shown = sorted((lv for lv in levels if lv[0] is not None), key=lambda lv: lv[0])
     if not shown:
@@ -134,6 +164,16 @@ def _levels(ax, levels):
     placed = _spread(wanted, LABEL_GAP_PT, -LABEL_GAP_PT, height_pt + LABEL_GAP_PT)
     for (value, label, style, colour), want, got in zip(shown, wanted, placed, strict=True):
         ax.axhline(value, linestyle=style, color=colour, linewidth=1.0)
+        if inside:
+            text = f"{label} {value:.0f} °C"
+            side = _freer_side(ax, value, got - want + 1.5, text)
+            ax.annotate(text, xy=(0.0 if side == "left" else 1.0, value),
+                        xycoords=("axes fraction", "data"),
+                        xytext=(3 if side == "left" else -3, got - want + 1.5),
+                        textcoords="offset points", va="bottom", ha=side, fontsize=6.6,
+                        color=INK, bbox={"boxstyle": "square,pad=0.1", "facecolor": "white",
+                                         "edgecolor": "none"})
+            continue
         moved = abs(got - want) > 0.5
         ax.annotate(f"{label} {value:.0f} °C", xy=(1.0, value),
                     xycoords=("axes fraction", "data"), xytext=(6 if moved else 3, got - want),
@@ -306,7 +346,7 @@ def accumulation_chart(snapshot, series: dict | None = None) -> str | None:
         bottom, top = _c(lo), max([_c(hi)] + [lv[0] for lv in near])
         pad = 0.08 * max(top - bottom, 2.0)
         right.set_ylim(bottom - pad, top + pad)
-        _levels(right, near)
+        _levels(right, near, inside=True)
         lines = ax.get_lines() + right.get_lines()[:1]
         _legend(ax, lines, [line.get_label() for line in lines])
         _note(fig, source)

@@ -5,6 +5,7 @@ from __future__ import annotations
 import re
 import time
 
+import matplotlib
 import pytest
 
 from hazards.dossier import charts
@@ -130,3 +131,34 @@ def test_charts_past_their_time_are_stopped_with_a_timeout(monkeypatch):
     with pytest.raises(TimeoutError, match="longer than 0.5 s"):
         charts.charts_of_steps([(SNAP, None)] * 4, processes=2, timeout=0.5)
     assert time.monotonic() - started < 10
+
+
+def _level_labels(svg: str) -> list[tuple[str, float, str]]:
+    """(label, x in points, text-anchor) of each level label of a chart."""
+    return [(m.group(3), float(m.group(2)), m.group(1)) for m in re.finditer(
+        r'<text style="[^"]*text-anchor: (\w+)[^"]*" x="([-0-9.]+)"[^>]*>((?:MTT|TD24) '
+        r'-?[0-9]+ °C)</text>', svg)]
+
+
+def test_accumulation_levels_are_labelled_inside_clear_of_the_right_axis_and_of_the_curve():
+    # MTT 38 °C and TD24 40 °C near MTSR(t) (30-41 °C, METHODS.md C1.7 series). The right edge
+    # of the plot, where MTSR(t)'s tick labels are, is at (0.15 + 0.62) x 3.9 in = 216.2 pt.
+    near = {**SNAP, "values": {**SNAP["values"], "mtt_k": 311.15, "td24_k": 313.15}}
+    labels = _level_labels(charts.accumulation_chart(near, SERIES))
+    assert sorted(label for label, _, _ in labels) == ["MTT 38 °C", "TD24 40 °C"]
+    for label, x, anchor in labels:
+        # The C1.7 MTSR(t) climbs steeply through 38-40 °C in the first half hour (left), so
+        # the labels go to the right end, right-aligned inside the plot.
+        assert anchor == "end", label
+        assert 200.0 < x < 216.2, (label, x)
+
+
+def test_the_freer_side_is_the_one_without_the_curve():
+    with matplotlib.rc_context(charts._RC):
+        fig, ax = charts._figure("t")
+        ax.plot([0.0, 0.4, 0.6], [10.0, 10.0, 0.0])  # at the label's height on the left only
+        ax.set_xlim(0, 1)
+        ax.set_ylim(0, 12)
+        assert charts._freer_side(ax, 9.5, 1.5, "MTT 10 °C") == "right"
+        ax.lines[0].set_data([0.4, 0.6, 1.0], [0.0, 10.0, 10.0])  # the mirror image
+        assert charts._freer_side(ax, 9.5, 1.5, "MTT 10 °C") == "left"
