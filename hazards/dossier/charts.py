@@ -27,6 +27,7 @@ from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
 from calcs.accumulation import analyse_accumulation
 from calcs.constants import DAY, HOUR, T_ZERO_C, R
 from calcs.tmr import tmr_zero_order_at
+from hazards.dossier.view import scientific
 
 FONT_FAMILY = "Exoledger Sans"
 WIDTH_IN, HEIGHT_IN = 3.9, 3.5
@@ -58,7 +59,15 @@ def snapshot_data(snapshot) -> dict:
 
 
 def _plain_number(value, _position=None) -> str:
+    """A tick or legend number: 0.1, 250, 1000, then powers of ten (10⁶, 2.4·10¹⁰)."""
+    if value != 0 and (abs(value) >= 1e5 or abs(value) < 1e-3):
+        return scientific(value)
     return f"{value:g}"
+
+
+def _hours(value: float) -> str:
+    """A duration in hours with three significant digits, powers of ten when huge."""
+    return _plain_number(float(f"{value:.3g}"))
 
 
 def _c(kelvin):
@@ -262,7 +271,7 @@ def cooling_failure_chart(snapshot) -> str:
             gap = 0.25 * span
             ax.plot([t_rise_h, t_rise_h + gap], [_c(mtsr)] * 2, color=MID, linestyle="-.")
             ax.plot(t_rise_h + gap + frac[keep] * span, _c(temps[keep]), color=MID,
-                    linestyle="-.", label=f"decomposition runaway after TMRad {tmr_h:.3g} h")
+                    linestyle="-.", label=f"decomposition runaway after TMRad {_hours(tmr_h)} h")
             ax.annotate("≈", xy=(t_rise_h + gap / 2, _c(mtsr)), ha="center", va="center",
                         fontsize=11, color=INK)
             end_h = t_rise_h + gap + span * 1.05
@@ -274,7 +283,7 @@ def cooling_failure_chart(snapshot) -> str:
                 if not ticks or t - ticks[-1] >= room:
                     ticks.append(float(t))
             ax.set_xticks(ticks + [t_rise_h + gap + span])
-            ax.set_xticklabels([f"{t:g}" for t in ticks] + [f"+{tmr_h:.3g}"])
+            ax.set_xticklabels([f"{t:g}" for t in ticks] + [f"+{_hours(tmr_h)}"])
             note += "after the break (≈) the time axis is compressed to TMRad."
         else:
             note += "no decomposition data for the runaway branch."
@@ -378,7 +387,7 @@ def tmr_chart(snapshot) -> str:
         if mtsr:
             tm = tmr_zero_order_at(mtsr, cp, ea, td24, q24) / HOUR
             ax.plot([_c(mtsr)], [tm], marker="o", color=INK, markerfacecolor="white",
-                    linestyle="none", label=f"MTSR {_c(mtsr):.0f} °C: {tm:.3g} h")
+                    linestyle="none", label=f"MTSR {_c(mtsr):.0f} °C: {_hours(tm)} h")
         if tp:
             ax.axvline(_c(tp), color=LIGHT, linestyle=":", linewidth=0.8)
             ax.annotate("Tp", xy=(_c(tp), 1.0), xycoords=("data", "axes fraction"),

@@ -162,3 +162,25 @@ def test_the_freer_side_is_the_one_without_the_curve():
         assert charts._freer_side(ax, 9.5, 1.5, "MTT 10 °C") == "right"
         ax.lines[0].set_data([0.4, 0.6, 1.0], [0.0, 10.0, 10.0])  # the mirror image
         assert charts._freer_side(ax, 9.5, 1.5, "MTT 10 °C") == "left"
+
+
+def test_huge_and_tiny_numbers_print_with_powers_of_ten_never_as_e_notation():
+    from hazards.dossier.view import _number, scientific
+
+    # Arithmetic of the notation (common practice, no source).
+    assert scientific(2.39e10) == "2.39·10¹⁰"
+    assert scientific(1e12) == "10¹²"
+    assert scientific(1e-5) == "10⁻⁵"
+    assert scientific(9.996e9) == "10¹⁰"  # rounds up into the next power
+    assert _number(2.39e10) == "2.39·10¹⁰" and _number(591.4) == "591.4"
+    # A step whose decomposition starts far above MTSR: TMRad at MTSR of ~2.7 million years
+    # (the demo's esterification: TD24 217 °C, MTSR 75 °C, Ea 213 kJ/mol).
+    far = {**SNAP, "inputs": {**SNAP["inputs"], "process_temperature_k": 343.15},
+           "values": {**SNAP["values"], "mtsr_k": 348.15, "td24_k": 490.15,
+                      "tmr_ad_at_mtsr_s": 8.6e13},
+           "parameters": {"screening_activation_energy_j_per_mol": 213e3}}
+    for svg in (charts.tmr_chart(far), charts.cooling_failure_chart(far)):
+        text = _texts(svg)
+        assert "e+" not in text, text
+    assert "·10" in _texts(charts.cooling_failure_chart(far))  # "+2.39·10¹⁰" and its legend
+    assert "10¹⁰" in _texts(charts.tmr_chart(far))  # a tick of the log axis
