@@ -79,6 +79,13 @@ def preload() -> None:
     import weasyprint.text.fonts  # noqa: F401
 
 
+def _unique_associated_files(_document, pdf) -> None:
+    """One /AF entry per attachment: WeasyPrint 70 lists each twice (Kozea/WeasyPrint#2917)."""
+    associated = pdf.catalog.get("AF")
+    if associated:
+        associated[:] = list(dict.fromkeys(associated))  # references, as pydyf writes them
+
+
 def write_pdf(job: PdfJob) -> bytes:
     """Render the job; the same job gives the same bytes (fonts shipped, dates from the record)."""
     when = record_datetime(job.record_date)
@@ -89,11 +96,13 @@ def write_pdf(job: PdfJob) -> bytes:
 
     fetcher = make_fetcher(job.charts)
     fonts = FontConfiguration()
+    # In name order: WeasyPrint writes the embedded-files name tree in the order given, and a
+    # name tree's keys must be sorted (ISO 32000-1 §7.9.6); qpdf reports unsorted ones.
     attachments = [
         Attachment(string=a["content"], name=a["name"], description=a.get("description"),
                    relationship=a.get("relationship", "Source"), created=when, modified=when,
                    url_fetcher=fetcher)
-        for a in job.attachments
+        for a in sorted(job.attachments, key=lambda a: a["name"].encode("utf-8"))
     ]
     # The cyclic garbage collector is paused for the render. WeasyPrint keeps the whole
     # document (DOM, styles, boxes of every page) alive until the PDF is written, so each full
@@ -108,7 +117,8 @@ def write_pdf(job: PdfJob) -> bytes:
         document = HTML(string=job.html, base_url=STATIC_DIR.as_uri() + "/",
                         url_fetcher=fetcher)
         return document.write_pdf(font_config=fonts, pdf_variant=PDF_VARIANT,
-                                  attachments=attachments, uncompressed_pdf=False)
+                                  attachments=attachments, uncompressed_pdf=False,
+                                  finisher=_unique_associated_files)
     finally:
         if paused:
             gc.enable()

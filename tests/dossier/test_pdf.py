@@ -113,3 +113,29 @@ def test_assumed_parameters_print_with_a_label_and_unit_a_reader_knows(issued_da
     assert (f"Heat-release rate assumed at the onset {q:.2f} W/kg "
             "[screening_heat_release_rate_w_per_kg]") in text
     assert "Kind of TD24 screening estimate [td24_label]" in text
+
+
+def test_the_pdf_passes_the_structural_checks_we_can_run_without_a_pdf_a_validator(issued_data):
+    # No veraPDF can be installed here (INTEGRITY.md §4.4), so the parts of ISO 19005-3
+    # (PDF/A-3) and ISO 32000-1 that a structural reader can see, from memory of the standards:
+    with pikepdf.open(io.BytesIO(issued_data["pdf"])) as pdf:
+        # qpdf's syntax and stream check, including sorted name-tree keys (ISO 32000-1 §7.9.6).
+        assert pdf.check_pdf_syntax() == []
+        root = pdf.Root
+        names = [str(n) for n in root.Names.EmbeddedFiles.Names[::2]]
+        assert names == sorted(names) == ["dossier-context.json", "revision.json"]
+        # Each embedded file is an associated file of the document with its relationship.
+        assert {str(spec.get("/AFRelationship")) for spec in root.AF} == {"/Source"}
+        assert len(root.AF) == 2
+        # An output intent with an embedded ICC profile; a file identifier in the trailer.
+        intent = root.OutputIntents[0]
+        assert intent.S == "/GTS_PDFA1" and "/DestOutputProfile" in intent
+        assert "/ID" in pdf.trailer
+        meta = pdf.open_metadata()
+        assert (meta.get("pdfaid:part"), meta.get("pdfaid:conformance")) == ("3", "U")
+        # Nothing that runs or launches, and no image interpolation (ISO 19005 forbids both).
+        for obj in pdf.objects:
+            if isinstance(obj, pikepdf.Dictionary):
+                assert not {"/JS", "/JavaScript", "/Launch"} & set(obj.keys())
+                assert str(obj.get("/S", "")) not in ("/JavaScript", "/Launch")
+                assert obj.get("/Interpolate") is not True
