@@ -65,6 +65,13 @@ def _plain_number(value, _position=None) -> str:
     return f"{value:g}"
 
 
+def _log_tick(value, _position=None) -> str:
+    """A decade of a log axis: 0.1, 1, 10, 100, 1000, then 10⁴, 10⁵ (no 10000 beside 10⁵)."""
+    if value != 0 and (abs(value) >= 1e4 or abs(value) < 1e-2):
+        return scientific(value)
+    return f"{value:g}"
+
+
 def _hours(value: float) -> str:
     """A duration in hours with three significant digits, powers of ten when huge."""
     return _plain_number(float(f"{value:.3g}"))
@@ -362,6 +369,9 @@ def accumulation_chart(snapshot, series: dict | None = None) -> str | None:
         return _svg(fig)
 
 
+TMR_CEILING_H = 1e5  # about 11 years: the top of the TMRad axis
+
+
 def tmr_chart(snapshot) -> str:
     """Zero-order TMRad against the initial temperature, with TD24, MTSR and Tp marked."""
     snap = snapshot_data(snapshot)
@@ -384,10 +394,18 @@ def tmr_chart(snapshot) -> str:
         ax.plot([_c(td24)], [24], marker="D", color=INK, linestyle="none",
                 label=f"TD24 {_c(td24):.0f} °C")
         ax.axvline(_c(td24), color=INK, linestyle=(0, (3, 1, 1, 1)), linewidth=0.8)
+        # Times beyond TMR_CEILING_H (decades) all mean the same to a reader; drawing them
+        # would spend most of the axis on them and squeeze the 8-24 h region.
+        top = min(float(np.max(tmr_h)), TMR_CEILING_H) * 1.5
         if mtsr:
             tm = tmr_zero_order_at(mtsr, cp, ea, td24, q24) / HOUR
-            ax.plot([_c(mtsr)], [tm], marker="o", color=INK, markerfacecolor="white",
-                    linestyle="none", label=f"MTSR {_c(mtsr):.0f} °C: {_hours(tm)} h")
+            if tm <= top:
+                ax.plot([_c(mtsr)], [tm], marker="o", color=INK, markerfacecolor="white",
+                        linestyle="none", label=f"MTSR {_c(mtsr):.0f} °C: {_hours(tm)} h")
+            else:  # an arrow at the top edge: the point is far above the plot
+                ax.plot([_c(mtsr)], [top], marker="^", color=INK, markerfacecolor="white",
+                        linestyle="none", clip_on=False,
+                        label=f"MTSR {_c(mtsr):.0f} °C: {_hours(tm)} h (above the plot)")
         if tp:
             ax.axvline(_c(tp), color=LIGHT, linestyle=":", linewidth=0.8)
             ax.annotate("Tp", xy=(_c(tp), 1.0), xycoords=("data", "axes fraction"),
@@ -395,12 +413,14 @@ def tmr_chart(snapshot) -> str:
         ax.set_xlabel("initial temperature / °C")
         ax.set_ylabel("TMRad / h (log scale)")
         # Plain numbers on the log axis: no mathtext to parse (a third of a chart's drawing time).
-        ax.yaxis.set_major_formatter(FuncFormatter(_plain_number))
+        ax.yaxis.set_major_formatter(FuncFormatter(_log_tick))
         ax.yaxis.set_minor_formatter(NullFormatter())
         # Minor ticks at 2 and 5 of each decade only: enough to read a time off the log axis,
         # and each tick is a handful of artists to lay out.
         ax.yaxis.set_minor_locator(LogLocator(base=10.0, subs=(2.0, 5.0)))
         ax.set_xlim(_c(lo), _c(hi))
+        bottom = max(float(np.min(tmr_h)), 1e-3) / 1.5
+        ax.set_ylim(min(bottom, 1.0), max(top, 100.0))
         _legend(ax)
         label = (snap.get("parameters") or {}).get("td24_label")
         _note(fig, f"zero order, Ea {ea / 1000:.0f} kJ/mol, cp {cp / 1000:.2f} kJ/(kg·K)"

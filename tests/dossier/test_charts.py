@@ -184,3 +184,18 @@ def test_huge_and_tiny_numbers_print_with_powers_of_ten_never_as_e_notation():
         assert "e+" not in text, text
     assert "·10" in _texts(charts.cooling_failure_chart(far))  # "+2.39·10¹⁰" and its legend
     assert "10¹⁰" in _texts(charts.tmr_chart(far))  # a tick of the log axis
+
+
+def test_tmrad_beyond_a_decade_is_marked_at_the_top_instead_of_stretching_the_axis():
+    # The demo's esterification: TD24 217 °C, MTSR 75 °C, Ea 213 kJ/mol -> TMRad at MTSR of
+    # 2.39·10¹⁰ h. The axis stops at 1.5 x 10⁵ h; the MTSR point is an arrow at the top edge.
+    far = {**SNAP, "inputs": {**SNAP["inputs"], "process_temperature_k": 343.15},
+           "values": {**SNAP["values"], "mtsr_k": 348.15, "td24_k": 490.15},
+           "parameters": {"screening_activation_energy_j_per_mol": 213e3}}
+    text = _texts(charts.tmr_chart(far))
+    assert "h (above the plot)" in text
+    ticks = re.findall(r'<g id="ytick_\d+">.*?<text[^>]*>([^<]*)</text>',
+                       charts.tmr_chart(far), re.DOTALL)
+    assert "10⁵" in ticks and "10⁶" not in ticks and "10000" not in ticks, ticks
+    # A step whose MTSR is within the plot keeps its point and its time (SNAP: 591 h).
+    assert "above the plot" not in _texts(charts.tmr_chart(SNAP))
