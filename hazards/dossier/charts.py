@@ -476,15 +476,24 @@ def heat_release_chart(snapshot, series: dict | None = None) -> str:
         return _svg(fig)
 
 
+def chart_names(snapshot) -> list[str]:
+    """The charts that apply to a step, in the order a page shows them (known before drawing,
+    so the pages can be laid out while the charts are drawn)."""
+    snap = snapshot_data(snapshot)
+    semi_batch = (snap.get("inputs") or {}).get("operation_mode") == "semi_batch"
+    return ["cooling_failure"] + (["accumulation"] if semi_batch else []) + [
+        "tmr", "heat_release"]
+
+
 def step_charts(snapshot, series: dict | None = None) -> dict[str, str]:
-    """Every chart that applies to a step, by name, in the order a page shows them."""
-    charts = {
-        "cooling_failure": cooling_failure_chart(snapshot),
-        "accumulation": accumulation_chart(snapshot, series),
-        "tmr": tmr_chart(snapshot),
-        "heat_release": heat_release_chart(snapshot, series),
+    """Every chart that applies to a step, by name, in the order of `chart_names`."""
+    draw = {
+        "cooling_failure": lambda: cooling_failure_chart(snapshot),
+        "accumulation": lambda: accumulation_chart(snapshot, series),
+        "tmr": lambda: tmr_chart(snapshot),
+        "heat_release": lambda: heat_release_chart(snapshot, series),
     }
-    return {name: svg for name, svg in charts.items() if svg is not None}
+    return {name: draw[name]() for name in chart_names(snapshot)}
 
 
 def _step_charts_of(item: tuple) -> dict[str, str]:

@@ -73,23 +73,16 @@ def css_string(text: str) -> str:
     return "".join(out)
 
 
-def build_job(content: dict, meta: DossierMeta) -> PdfJob:
-    """Everything WeasyPrint needs, computed from the frozen content only."""
+def chart_key(step: dict, name: str) -> str:
+    return f"step-{step['id']}-{name}.svg"
+
+
+def build_pages(content: dict, meta: DossierMeta) -> tuple[PdfJob, list[dict]]:
+    """The job without its charts (their names are known), and the view's steps to draw."""
     view = dossier_view(content, meta)
-    chart_map = {}
-    try:
-        drawn = ch.charts_of_steps(
-            [(step["snapshot"], step["series"]) for step in view["steps"]],
-            processes=settings.DOSSIER_CHART_PROCESSES,
-            timeout=settings.DOSSIER_RENDER_TIMEOUT_SECONDS)
-    except TimeoutError as exc:
-        raise RenderError(str(exc)) from None
-    for step, svgs in zip(view["steps"], drawn, strict=True):
-        step["charts"] = []
-        for name, svg in svgs.items():
-            key = f"step-{step['id']}-{name}.svg"
-            chart_map[key] = svg
-            step["charts"].append({"name": name, "url": f"chart:{key}"})
+    for step in view["steps"]:
+        step["charts"] = [{"name": name, "url": f"chart:{chart_key(step, name)}"}
+                          for name in ch.chart_names(step["snapshot"])]
     html = render_to_string("dossier/dossier.html", {
         **view, "meta": meta, "deference": DEFERENCE, "keywords": keywords(meta),
         "header_left": css_string(f"{view['process']['name']} · {view['process']['site']['name']}"),
@@ -105,8 +98,29 @@ def build_job(content: dict, meta: DossierMeta) -> PdfJob:
          "description": f"Signatures, findings, history and provenance shown in this dossier, "
                         f"SHA-256 {meta.context_sha256}"},
     ]
-    return PdfJob(html=html, charts=chart_map, attachments=attachments,
-                  record_date=content["context"]["record_date"])
+    job = PdfJob(html=html, attachments=attachments,
+                 record_date=content["context"]["record_date"])
+    return job, view["steps"]
+
+
+def draw_charts(steps: list[dict]) -> dict[str, str]:
+    """The SVG of every chart the pages link, by its `chart:` name."""
+    try:
+        drawn = ch.charts_of_steps(
+            [(step["snapshot"], step["series"]) for step in steps],
+            processes=settings.DOSSIER_CHART_PROCESSES,
+            timeout=settings.DOSSIER_RENDER_TIMEOUT_SECONDS)
+    except TimeoutError as exc:
+        raise RenderError(str(exc)) from None
+    return {chart_key(step, name): svg
+            for step, svgs in zip(steps, drawn, strict=True) for name, svg in svgs.items()}
+
+
+def build_job(content: dict, meta: DossierMeta) -> PdfJob:
+    """Everything WeasyPrint needs, computed from the frozen content only."""
+    job, steps = build_pages(content, meta)
+    job.charts = draw_charts(steps)
+    return job
 
 
 def render_in_process(content: dict, meta: DossierMeta) -> bytes:
@@ -122,18 +136,24 @@ def render_sandboxed(content: dict, meta: DossierMeta, *, timeout: float | None 
            "PYTHONPATH": os.pathsep.join([str(ROOT), os.environ.get("PYTHONPATH", "")])}
     argv = [sys.executable, "-m", "hazards.dossier.sandbox", str(int(memory)),
             str(max(1, int(timeout) + 1))]
-    # The child starts first and imports WeasyPrint while the charts are drawn here.
+    # The child gets the pages first, then imports WeasyPrint and lays them out while the
+    # charts are drawn here; it reads the charts when it first needs one (sandbox.py).
     child = subprocess.Popen(argv, stdin=subprocess.PIPE, stdout=subprocess.PIPE,
                              stderr=subprocess.PIPE, env=env, cwd=ROOT)
     try:
-        job = build_job(content, meta)
-        payload = json.dumps(job.to_json()).encode()
+        job, steps = build_pages(content, meta)
+        try:
+            child.stdin.write(json.dumps(job.to_json()).encode() + b"\n")
+            child.stdin.flush()
+        except BrokenPipeError:
+            pass  # the child died at start (e.g. its memory limit): reported below
+        charts = json.dumps(draw_charts(steps)).encode()
     except BaseException:
         child.kill()
         child.communicate()
         raise
     try:
-        stdout, stderr = child.communicate(payload, timeout=timeout)
+        stdout, stderr = child.communicate(charts, timeout=timeout)
     except subprocess.TimeoutExpired:
         child.kill()
         child.communicate()
