@@ -3,10 +3,12 @@
 from __future__ import annotations
 
 import io
+import json
 import subprocess
 import sys
 
 import pikepdf
+import pypdf
 import pytest
 from django.core.management import call_command
 from django.db import transaction
@@ -152,3 +154,26 @@ def test_the_sandbox_imports_no_django():
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                          check=True)
     assert out.stdout.strip() == "False"
+
+
+def _sandbox(stdin: bytes) -> subprocess.CompletedProcess:
+    return subprocess.run([sys.executable, "-m", "hazards.dossier.sandbox", str(2**31), "60"],
+                          input=stdin, capture_output=True, check=False, timeout=120)
+
+
+def test_the_sandbox_takes_the_pages_first_and_the_charts_after_them():
+    from hazards.dossier.sandbox import EXIT_ERROR
+
+    svg = ("<svg xmlns='http://www.w3.org/2000/svg' width='40' height='20'>"
+           "<text x='1' y='15'>chart text 42</text></svg>")
+    pages = {"html": "<p>page text</p><img src='chart:a.svg'>", "attachments": [],
+             "record_date": "2026-03-02T09:00:00Z"}
+    done = _sandbox(json.dumps(pages).encode() + b"\n" + json.dumps({"a.svg": svg}).encode())
+    assert done.returncode == 0, done.stderr
+    text = " ".join(p.extract_text() for p in pypdf.PdfReader(io.BytesIO(done.stdout)).pages)
+    assert "page text" in text and "chart text 42" in text
+    # A chart the pages link but the second part lacks fails the render, naming it.
+    missing = _sandbox(json.dumps(pages).encode() + b"\n{}")
+    assert missing.returncode == EXIT_ERROR and b"a.svg" in missing.stderr
+    # A parent that gives up before sending pages: the child ends with an error, no PDF.
+    assert _sandbox(b"").returncode == EXIT_ERROR
