@@ -133,7 +133,8 @@ def dossier_request(request, pk):
 
 @login_required
 def dossier_status(request, pk):
-    dossier = get_object_or_404(_dossiers_of(request.user).defer("pdf"), pk=pk)
+    dossier = get_object_or_404(_dossiers_of(request.user).defer("pdf", "content")
+                                .select_related("revision", "requested_by"), pk=pk)
     return render(request, "hazards/_dossier_row.html", {"dossier": dossier})
 
 

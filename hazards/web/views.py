@@ -63,7 +63,7 @@ def process_detail(request, pk):
         "findings": Finding.objects.filter(process=process).select_related("owner", "raised_by")
         .order_by("status", "due_date"),
         "dossiers": Dossier.objects.filter(process=process).defer("pdf", "content")
-        .order_by("-version")[:10],
+        .select_related("revision", "requested_by").order_by("-version")[:10],
         "revisions": ProcessRevision.objects.filter(process=process).order_by("-number")[:10],
         "shows_indicators": True,
     })

@@ -83,3 +83,32 @@ def test_the_step_page_names_each_assumed_parameter_with_its_unit(people, step, 
     assert "<dt>Activation energy Ea assumed for the screen</dt>" in page
     assert f"<dd>{ea / 1000:.2f} kJ/mol" in page
     assert "[screening_activation_energy_j_per_mol]" in page
+
+
+def test_the_dossier_list_says_who_asked_when_and_why_with_a_fixed_number_of_queries(
+        people, process, client_as):
+    from django.db import connection
+    from django.test.utils import CaptureQueriesContext
+
+    from hazards.dossier.services import dossier_request
+
+    dossier_request(process=process, requested_by=people["auditor"], reason="annual audit",
+                    enqueue=False)
+    client = client_as(people["auditor"])
+    with CaptureQueriesContext(connection) as one:
+        page = client.get(f"/processes/{process.pk}/").content.decode()
+    assert "Dossier version 1" in page
+    assert f"by {people['auditor'].get_full_name() or people['auditor'].get_username()}" in page
+    assert ": annual audit" in page
+    for n in range(3):
+        dossier_request(process=process, requested_by=people["reviewer"], reissue=True,
+                        reason=f"re-issue {n}", enqueue=False)
+    with CaptureQueriesContext(connection) as four:
+        page = client.get(f"/processes/{process.pk}/").content.decode()
+    assert "re-issue 2" in page and "Dossier version 4" in page
+    # Reads only: opening the page may also record a reconciliation in the trail.
+    def reads(ctx):
+        return [q for q in ctx.captured_queries
+                if q["sql"].startswith("SELECT") and "set_config" not in q["sql"]]
+
+    assert len(reads(four)) == len(reads(one))
