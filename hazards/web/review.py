@@ -56,6 +56,14 @@ def review_actions(user, process, revision) -> dict:
         if role in roles and not already:
             actions["sign"] = {"meaning": meaning, "label": Meaning(meaning).label,
                                "verb": SIGN_VERB[meaning]}
+        elif (revision.state == ReviewState.LODGED and Role.APPROVER in roles and not already
+              and light_path(revision=revision, content=revision.content)[1] is not None):
+            # The lighter review path: the approver endorses without the reviewer's step
+            # (revision_sign re-checks it under lock and records why).
+            actions["sign"] = {"meaning": Meaning.APPROVED,
+                               "label": Meaning(Meaning.APPROVED).label,
+                               "verb": "Sign as approver on the lighter review path (endorse)",
+                               "light": True}
         if revision.state == ReviewState.LODGED and roles & {Role.REVIEWER, Role.APPROVER}:
             actions["send_back"] = True
         if revision.state == ReviewState.CHECKED and Role.APPROVER in roles:

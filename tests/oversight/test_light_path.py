@@ -174,3 +174,38 @@ def test_the_api_approve_action_follows_the_light_path(endorsed, step, people, p
     assert revision.state == ("endorsed" if status == 201 else "lodged")
     if status == 409:
         assert E.NOT_WITHIN_LIGHT_PATH.encode() in response.content
+
+
+def test_the_approver_signs_on_the_lighter_path_in_the_browser(endorsed, step, people, process):
+    from django.test import Client
+
+    from tests.conftest import PASSWORD
+
+    revision = lodged_after_change(process, step, people)
+    approver, reviewer = Client(), Client()
+    approver.force_login(people["approver"])
+    reviewer.force_login(people["reviewer"])
+    page = approver.get(f"/processes/{process.pk}/review/").content.decode()
+    assert "Sign as approver on the lighter review path (endorse)" in page
+    assert 'name="sign-meaning" value="approved"' in page
+    # The reviewer still gets the ordinary reviewer's signature, not the lighter one.
+    other = reviewer.get(f"/processes/{process.pk}/review/").content.decode()
+    assert "Sign as reviewer" in other and "lighter review path (endorse)" not in other
+
+    done = approver.post(f"/revisions/{revision.pk}/sign/", {
+        "sign-meaning": "approved", "sign-password": PASSWORD, "sign-reason": ""})
+    assert done.status_code == 302, done.content.decode()[:2000]
+    revision.refresh_from_db()
+    assert revision.state == "endorsed"
+    assert Transition.objects.get(revision=revision, to_state="endorsed").from_state == "lodged"
+
+
+def test_off_the_lighter_path_the_approver_is_offered_no_signature_on_a_lodged_revision(
+        endorsed, step, people, process):
+    from django.test import Client
+
+    lodged_after_change(process, step, people, heat=240e3)  # beyond the tolerance
+    approver = Client()
+    approver.force_login(people["approver"])
+    page = approver.get(f"/processes/{process.pk}/review/").content.decode()
+    assert "Sign as approver" not in page
