@@ -110,11 +110,16 @@ def test_a_short_synthesis_does_not_print_time_ticks_into_each_other():
     assert "0.1" not in ticks and "0" in ticks, ticks
 
 
-def test_charts_of_many_steps_are_the_same_bytes_on_several_processes_as_on_one():
+def test_charts_of_many_steps_are_the_same_bytes_on_several_processes_as_on_one(monkeypatch):
     batch = {**SNAP, "inputs": {**SNAP["inputs"], "operation_mode": "batch"}}
     items = [(SNAP, SERIES), (batch, None), (SNAP, None), (batch, SERIES), (SNAP, SERIES)]
     serial = charts.charts_of_steps(items, processes=1)
+    forked = []
+    real = charts.multiprocessing.get_context
+    monkeypatch.setattr(charts.multiprocessing, "get_context",
+                        lambda method: forked.append(method) or real(method))
     assert charts.charts_of_steps(items, processes=2) == serial
+    assert forked == ["fork"]  # the pool really drew them
     assert [set(c) for c in serial][:2] == [
         {"cooling_failure", "accumulation", "tmr", "heat_release"},
         {"cooling_failure", "tmr", "heat_release"}]
