@@ -15,3 +15,73 @@ class ApiNoStoreMiddleware:
             response["Cache-Control"] = "no-store"
             response.setdefault("Pragma", "no-cache")
         return response
+
+
+# PostgreSQL aborts one transaction of a deadlock (40P01) or of a serialization conflict
+# (40001) and rolls it back whole; the usual remedy is to run it again. Found by the load
+# test: an API create that had taken the audit chain's advisory lock, checking its foreign
+# key at COMMIT, against a page read that had locked the process tree and wanted that lock.
+TRANSIENT_SQLSTATES = frozenset({"40P01", "40001"})
+RETRY_ATTEMPTS = 3
+
+
+def transient_database_error(exc: BaseException | None) -> bool:
+    """A deadlock or serialization failure anywhere down the exception's chain."""
+    seen = 0
+    while exc is not None and seen < 10:
+        if getattr(exc, "sqlstate", None) in TRANSIENT_SQLSTATES:
+            return True
+        exc, seen = exc.__cause__ or exc.__context__, seen + 1
+    return False
+
+
+def mark_transient(request, exc: BaseException) -> None:
+    """Called by the error handlers: the request may be run again from the start."""
+    django_request = getattr(request, "_request", request)
+    if transient_database_error(exc):
+        django_request._exo_transient_db_error = True
+
+
+class RetryTransientDatabaseErrors:
+    """Run a request again, up to RETRY_ATTEMPTS times in all, when its transaction was the
+    victim of a deadlock or serialization failure: nothing of it was committed (no request
+    runs inside an open transaction here), so the whole request is repeated on a fresh copy
+    of its body. Only when every attempt fails does the client see the 503."""
+
+    def __init__(self, get_response):
+        self.get_response = get_response
+
+    def __call__(self, request):
+        if request.method in ("GET", "HEAD", "OPTIONS"):
+            return self._run(request, None)
+        from django.core.exceptions import RequestDataTooBig
+
+        try:
+            body = request.body  # read once (bounded by the upload limit), replayed per attempt
+        except RequestDataTooBig:
+            return self.get_response(request)  # refused further in, as before; nothing read
+        return self._run(request, body)
+
+    def _run(self, request, body):
+        import io
+        import random
+        import time
+
+        from django.db import connection
+
+        for attempt in range(1, RETRY_ATTEMPTS + 1):
+            if body is not None:
+                request._stream = io.BytesIO(body)
+                request._read_started = False
+                for cached in ("_post", "_files", "_data"):
+                    request.__dict__.pop(cached, None)
+            request._exo_transient_db_error = False
+            response = self.get_response(request)
+            if (not request._exo_transient_db_error or attempt == RETRY_ATTEMPTS
+                    or connection.in_atomic_block):
+                return response
+            time.sleep(random.uniform(0.005, 0.05) * attempt)  # let the winner commit
+        return response
+
+    def process_exception(self, request, exception):
+        mark_transient(request, exception)

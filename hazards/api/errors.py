@@ -272,7 +272,14 @@ def _problem_for(exc, request) -> tuple[dict, dict]:
         detail = exc.detail if isinstance(exc.detail, str) else ""
         return problem_body(code, str(detail), instance=instance, status=status), headers
     if isinstance(exc, DatabaseError):
-        log.exception("database error")
+        from hazards.middleware import mark_transient, transient_database_error
+
+        if request is not None:
+            mark_transient(request, exc)  # the middleware runs the request again
+        if transient_database_error(exc):
+            log.warning("transaction aborted by the database (%s); retried", exc.__cause__)
+        else:
+            log.exception("database error")
         return problem_body("database_unavailable", instance=instance), {"Retry-After": "5"}
     log.error("unhandled error in %s", instance, exc_info=exc)
     return problem_body("server_error", instance=instance), headers

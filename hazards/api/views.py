@@ -56,10 +56,15 @@ class LimitedJSONParser(parsers.JSONParser):
 
 
 def _refuse_lone_surrogates(data, depth: int = 0) -> None:
-    """JSON may escape half a UTF-16 pair (`"\\ud800"`); such text cannot be stored."""
+    """JSON may escape half a UTF-16 pair (`"\\ud800"`) or a NUL (`"\\u0000"`); PostgreSQL
+    stores neither in text or jsonb, so such a body is refused whole (the fuzzer sent NULs
+    through the process import, which reached the database as a 503)."""
     if isinstance(data, str):
         if any("\ud800" <= c <= "\udfff" for c in data):
             raise ParseError("The body contains a lone UTF-16 surrogate (invalid Unicode).")
+        if "\x00" in data:
+            raise ParseError("The body contains a NUL character (U+0000), which no text "
+                             "field can store.")
     elif isinstance(data, dict):
         for key, value in data.items():
             _refuse_lone_surrogates(key, depth + 1)

@@ -122,6 +122,21 @@ def test_a_lone_surrogate_in_json_is_a_parse_error_not_a_crash(api):
         _is_problem(resp, 400, "parse_error")
 
 
+def test_a_nul_character_in_json_is_a_parse_error_and_nothing_is_saved(api):
+    # "\u0000" is valid JSON; PostgreSQL stores no NUL in text or jsonb (the fuzzer's import
+    # body reached the database with one and got a 503).
+    from hazards.models import Process, Site
+
+    before = (Site.objects.count(), Process.objects.count())
+    for url, body in (("/api/v1/sites/", '{"code": "x", "name": "a\\u0000b"}'),
+                       ("/api/v1/processes/import/",
+                        '{"format": "exoledger-process", "version": 1, '
+                        '"process": {"name": "\\u0000"}, "steps": []}')):
+        resp = api.generic("POST", url, body, content_type="application/json")
+        assert "NUL" in _is_problem(resp, 400, "parse_error")["detail"]
+    assert (Site.objects.count(), Process.objects.count()) == before
+
+
 @pytest.mark.parametrize("unit", ["(", "1/(", "kg)", "**"])
 def test_a_unit_pint_cannot_even_tokenise_is_a_400(api, unit):
     resp = api.post("/api/v1/vessels/", {"name": "V", "tag": "V-1",
