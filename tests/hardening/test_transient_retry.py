@@ -108,3 +108,56 @@ def test_only_deadlocks_and_serialization_failures_count_as_transient():
     unique.__cause__ = psycopg.errors.UniqueViolation("duplicate key")
     assert not middleware.transient_database_error(unique)
     assert not middleware.transient_database_error(OperationalError("connection refused"))
+
+
+def test_a_real_deadlock_with_a_process_tree_lock_is_survived(api, caplog):
+    """The load test's cycle, made on purpose on real PostgreSQL: another transaction holds
+    the step FOR UPDATE (as signing and reconciling do) and then asks for the audit chain
+    lock, which the API create took with its first audit event and holds while its foreign
+    key check at COMMIT waits for that step. PostgreSQL aborts the create (it waited first);
+    the retry waits for the other transaction and then succeeds."""
+    import threading
+    import time
+
+    from django.db import connection
+
+    from hazards.review.audit import CHAIN_LOCK_KEY
+
+    step = StepFactory()
+    params = connection.get_connection_params()
+    locked, done, errors = threading.Event(), threading.Event(), []
+
+    def other_transaction():
+        try:
+            with psycopg.connect(**params, autocommit=False) as other:
+                other.execute("SELECT 1 FROM hazards_reactionstep WHERE id = %s FOR UPDATE",
+                              [step.pk])
+                locked.set()
+                with psycopg.connect(**params, autocommit=True) as watch:
+                    for _ in range(200):  # until the create waits for our row lock
+                        waiting = watch.execute(
+                            "SELECT count(*) FROM pg_stat_activity WHERE datname = "
+                            "current_database() AND wait_event_type = 'Lock'").fetchone()[0]
+                        if waiting:
+                            break
+                        time.sleep(0.02)
+                other.execute("SELECT pg_advisory_xact_lock(%s)", [CHAIN_LOCK_KEY])
+                time.sleep(0.2)
+                other.commit()
+        except Exception as exc:  # noqa: BLE001 - reported by the test
+            errors.append(exc)
+        finally:
+            locked.set()
+            done.set()
+
+    thread = threading.Thread(target=other_transaction)
+    thread.start()
+    assert locked.wait(10)
+    with caplog.at_level("WARNING", logger="hazards.api.errors"):
+        response = _post_run(api, step)
+    thread.join(30)
+    assert done.is_set() and errors == []
+    assert response.status_code == 201, response.content
+    assert CalorimetryRun.objects.filter(step=step).count() == 1
+    assert any("deadlock" in r.getMessage() and "retried" in r.getMessage()
+               for r in caplog.records), [r.getMessage() for r in caplog.records]
