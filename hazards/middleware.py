@@ -2,6 +2,13 @@
 
 from __future__ import annotations
 
+import io
+import random
+import time
+
+from django.core.exceptions import RequestDataTooBig
+from django.db import connection
+
 
 class ApiNoStoreMiddleware:
     """API responses carry records that may be confidential: never store them in caches."""
@@ -54,8 +61,6 @@ class RetryTransientDatabaseErrors:
     def __call__(self, request):
         if request.method in ("GET", "HEAD", "OPTIONS"):
             return self._run(request, None)
-        from django.core.exceptions import RequestDataTooBig
-
         try:
             body = request.body  # read once (bounded by the upload limit), replayed per attempt
         except RequestDataTooBig:
@@ -63,12 +68,6 @@ class RetryTransientDatabaseErrors:
         return self._run(request, body)
 
     def _run(self, request, body):
-        import io
-        import random
-        import time
-
-        from django.db import connection
-
         for attempt in range(1, RETRY_ATTEMPTS + 1):
             if body is not None:
                 request._stream = io.BytesIO(body)
