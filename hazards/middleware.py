@@ -42,11 +42,13 @@ def transient_database_error(exc: BaseException | None) -> bool:
     return False
 
 
-def mark_transient(request, exc: BaseException) -> None:
-    """Called by the error handlers: the request may be run again from the start."""
-    django_request = getattr(request, "_request", request)
-    if transient_database_error(exc):
-        django_request._exo_transient_db_error = True
+def mark_transient(request, exc: BaseException) -> bool:
+    """Called by the error handlers: whether the request may be run again from the start
+    (then marked so for RetryTransientDatabaseErrors)."""
+    transient = transient_database_error(exc)
+    if transient:
+        getattr(request, "_request", request)._exo_transient_db_error = True
+    return transient
 
 
 class RetryTransientDatabaseErrors:

@@ -274,9 +274,9 @@ def _problem_for(exc, request) -> tuple[dict, dict]:
     if isinstance(exc, DatabaseError):
         from hazards.middleware import mark_transient, transient_database_error
 
-        if request is not None:
-            mark_transient(request, exc)  # the middleware runs the request again
-        if transient_database_error(exc):
+        # A marked request is run again by the middleware.
+        if (mark_transient(request, exc) if request is not None
+                else transient_database_error(exc)):
             log.warning("transaction aborted by the database (%s); retried", exc.__cause__)
         else:
             log.exception("database error")

@@ -58,18 +58,16 @@ def snapshot_data(snapshot) -> dict:
             ("values", "methods", "parameters", "inputs", "warnings", "references")}
 
 
-def _plain_number(value, _position=None) -> str:
+def _plain_number(value, _position=None, *, high: float = 1e5, low: float = 1e-3) -> str:
     """A tick or legend number: 0.1, 250, 1000, then powers of ten (10⁶, 2.4·10¹⁰)."""
-    if value != 0 and (abs(value) >= 1e5 or abs(value) < 1e-3):
+    if value != 0 and (abs(value) >= high or abs(value) < low):
         return scientific(value)
     return f"{value:g}"
 
 
 def _log_tick(value, _position=None) -> str:
     """A decade of a log axis: 0.1, 1, 10, 100, 1000, then 10⁴, 10⁵ (no 10000 beside 10⁵)."""
-    if value != 0 and (abs(value) >= 1e4 or abs(value) < 1e-2):
-        return scientific(value)
-    return f"{value:g}"
+    return _plain_number(value, high=1e4, low=1e-2)
 
 
 def _hours(value: float) -> str:
@@ -140,7 +138,7 @@ def _freer_side(ax, value, lift_pt: float, text: str) -> str:
     pt = fig.dpi / 72.0
     x0, x1 = ax.bbox.x0, ax.bbox.x1
     y_line = ax.transData.transform((0.0, value))[1]
-    bottom, top = y_line + lift_pt * pt, y_line + (lift_pt + 8.0) * pt
+    bottom, top = y_line + lift_pt * pt, y_line + (lift_pt + LABEL_GAP_PT) * pt
     width = (len(text) * 3.9 + 6.0) * pt  # 6.6 pt DejaVu Sans: about 3.9 pt a character
     boxes = {"left": (x0, x0 + width), "right": (x1 - width, x1)}
     hits = dict.fromkeys(boxes, 0)
@@ -180,8 +178,8 @@ def _levels(ax, levels, *, inside: bool = False):
     placed = _spread(wanted, LABEL_GAP_PT, -LABEL_GAP_PT, height_pt + LABEL_GAP_PT)
     for (value, label, style, colour), want, got in zip(shown, wanted, placed, strict=True):
         ax.axhline(value, linestyle=style, color=colour, linewidth=1.0)
+        text = f"{label} {value:.0f} °C"
         if inside:
-            text = f"{label} {value:.0f} °C"
             side = _freer_side(ax, value, got - want + 1.5, text)
             ax.annotate(text, xy=(0.0 if side == "left" else 1.0, value),
                         xycoords=("axes fraction", "data"),
@@ -191,7 +189,7 @@ def _levels(ax, levels, *, inside: bool = False):
                                          "edgecolor": "none"})
             continue
         moved = abs(got - want) > 0.5
-        ax.annotate(f"{label} {value:.0f} °C", xy=(1.0, value),
+        ax.annotate(text, xy=(1.0, value),
                     xycoords=("axes fraction", "data"), xytext=(6 if moved else 3, got - want),
                     textcoords="offset points", va="center", ha="left", fontsize=6.6, color=INK,
                     arrowprops={"arrowstyle": "-", "linewidth": 0.5, "color": MID,

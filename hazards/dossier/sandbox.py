@@ -2,8 +2,8 @@
 
 Run as `python -m hazards.dossier.sandbox MEMORY_BYTES CPU_SECONDS`: the job arrives on stdin
 as one line of JSON without its charts (an empty object: no job, exit), then the charts as
-JSON until the end of stdin; the PDF leaves on stdout. The limits are set before WeasyPrint is imported
-(RLIMIT_AS for memory, RLIMIT_CPU for time); the parent adds a wall-clock timeout and kills
+JSON until the end of stdin; the PDF leaves on stdout. The limits are set before WeasyPrint is
+imported (RLIMIT_AS for memory, RLIMIT_CPU for time); the parent adds a wall-clock timeout and kills
 the child past it. WeasyPrint keeps the whole document in memory and does not give memory
 back after a render (INTEGRITY.md §4.5), so a render never runs in a worker's own process.
 """

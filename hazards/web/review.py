@@ -46,8 +46,15 @@ SIGN_VERB = {Meaning.AUTHORED: "Submit for review (sign as author)",
              Meaning.APPROVED: "Sign as approver (endorse)"}
 
 
-def review_actions(user, process, revision) -> dict:
-    """What this person may do to the process's review now."""
+def on_light_path(revision) -> bool:
+    """A lodged revision the approver may endorse without the reviewer's step (now)."""
+    return (revision is not None and revision.state == ReviewState.LODGED
+            and light_path(revision=revision, content=revision.content)[1] is not None)
+
+
+def review_actions(user, process, revision, *, light: bool | None = None) -> dict:
+    """What this person may do to the process's review now (`light`: `on_light_path`, when
+    the caller has it already)."""
     roles = roles_on(user, process.pk)
     actions = {"sign": None, "send_back": False, "open": False, "raise_finding": False}
     if revision is not None and revision.state in NEXT_SIGNATURE:
@@ -57,7 +64,7 @@ def review_actions(user, process, revision) -> dict:
             actions["sign"] = {"meaning": meaning, "label": Meaning(meaning).label,
                                "verb": SIGN_VERB[meaning]}
         elif (revision.state == ReviewState.LODGED and Role.APPROVER in roles and not already
-              and light_path(revision=revision, content=revision.content)[1] is not None):
+              and (on_light_path(revision) if light is None else light)):
             # The lighter review path: the approver endorses without the reviewer's step
             # (revision_sign re-checks it under lock and records why).
             actions["sign"] = {"meaning": Meaning.APPROVED,
@@ -127,6 +134,7 @@ def _review_context(request, process, revision, **extra):
     if revision is not None and baseline is not None:
         diff = humanise_diff(content_diff(baseline.content, revision.content))
     user = request.user
+    light = on_light_path(revision)
     context = {
         "process": process, "revision": revision, "baseline": baseline, "diff": diff,
         "signatures": Signature.objects.filter(revision=revision).select_related("signer")
@@ -135,13 +143,12 @@ def _review_context(request, process, revision, **extra):
         if revision else [],
         "findings": Finding.objects.filter(process=process).select_related(
             "owner", "raised_by").order_by("status", "due_date"),
-        "actions": review_actions(user, process, revision),
+        "actions": review_actions(user, process, revision, light=light),
         "printed_name": printed_name(user),
         "now": dt.datetime.now(dt.UTC),
         "finding_form": FindingForm(process=process),
         "shows_indicators": True,
-        "light_path": revision is not None and revision.state == ReviewState.LODGED
-        and light_path(revision=revision, content=revision.content)[1] is not None,
+        "light_path": light,
     }
     if context["actions"]["sign"]:
         context.setdefault("sign_form", SignForm(initial={
