@@ -13,7 +13,6 @@ from django.db.models import Prefetch
 from drf_spectacular.utils import extend_schema
 from rest_framework import parsers, permissions, viewsets
 from rest_framework.decorators import action
-from rest_framework.exceptions import ParseError
 from rest_framework.permissions import AllowAny
 from rest_framework.response import Response
 from rest_framework.views import APIView
@@ -51,27 +50,31 @@ class LimitedJSONParser(parsers.JSONParser):
             data = super().parse(stream, media_type, parser_context)
         except RecursionError:  # e.g. 10 000 nested arrays: a 400, not a 500
             raise ProblemError("parse_error", "The JSON is nested too deeply.") from None
-        _refuse_lone_surrogates(data)
+        _refuse_unstorable_text(data)
         return data
 
 
-def _refuse_lone_surrogates(data, depth: int = 0) -> None:
+def _refuse_unstorable_text(data, field: str = "") -> None:
     """JSON may escape half a UTF-16 pair (`"\\ud800"`) or a NUL (`"\\u0000"`); PostgreSQL
-    stores neither in text or jsonb, so such a body is refused whole (the fuzzer sent NULs
-    through the process import, which reached the database as a 503)."""
+    stores neither in text or jsonb, so such a body is refused whole, naming the field (the
+    fuzzer sent NULs through the process import, which reached the database as a 503)."""
     if isinstance(data, str):
-        if any("\ud800" <= c <= "\udfff" for c in data):
-            raise ParseError("The body contains a lone UTF-16 surrogate (invalid Unicode).")
-        if "\x00" in data:
-            raise ParseError("The body contains a NUL character (U+0000), which no text "
-                             "field can store.")
+        rule = ("no lone UTF-16 surrogate (invalid Unicode)"
+                if any("\ud800" <= c <= "\udfff" for c in data)
+                else "no NUL character (U+0000), which no text field can store"
+                if "\x00" in data else None)
+        if rule is not None:
+            where = f"field '{field}'" if field else "body"
+            raise ProblemError("parse_error", f"The {where} breaks a rule of stored text: {rule}.",
+                               errors=[{"field": field or None, "value": None, "rule": rule,
+                                        "code": "invalid_text"}])
     elif isinstance(data, dict):
         for key, value in data.items():
-            _refuse_lone_surrogates(key, depth + 1)
-            _refuse_lone_surrogates(value, depth + 1)
+            _refuse_unstorable_text(key, f"{field} (a key)" if field else "(a key)")
+            _refuse_unstorable_text(value, f"{field}.{key}" if field else str(key))
     elif isinstance(data, list):
-        for value in data:
-            _refuse_lone_surrogates(value, depth + 1)
+        for index, value in enumerate(data):
+            _refuse_unstorable_text(value, f"{field}[{index}]")
 
 
 class ModelPermissions(permissions.DjangoModelPermissions):

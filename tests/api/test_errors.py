@@ -117,9 +117,10 @@ def test_the_problem_catalogue_is_public(anon_api):
 
 def test_a_lone_surrogate_in_json_is_a_parse_error_not_a_crash(api):
     # "\ud800" is half a UTF-16 pair: valid JSON escape, invalid Unicode for PostgreSQL.
-    for body in ('{"code": "x", "name": "\\ud800"}', '{"\\udfff": 1}'):
+    for body, field in (('{"code": "x", "name": "\\ud800"}', "name"),
+                        ('{"\\udfff": 1}', "(a key)")):
         resp = api.generic("POST", "/api/v1/sites/", body, content_type="application/json")
-        _is_problem(resp, 400, "parse_error")
+        assert _is_problem(resp, 400, "parse_error")["errors"][0]["field"] == field
 
 
 def test_a_nul_character_in_json_is_a_parse_error_and_nothing_is_saved(api):
@@ -128,12 +129,14 @@ def test_a_nul_character_in_json_is_a_parse_error_and_nothing_is_saved(api):
     from hazards.models import Process, Site
 
     before = (Site.objects.count(), Process.objects.count())
-    for url, body in (("/api/v1/sites/", '{"code": "x", "name": "a\\u0000b"}'),
-                       ("/api/v1/processes/import/",
-                        '{"format": "exoledger-process", "version": 1, '
-                        '"process": {"name": "\\u0000"}, "steps": []}')):
+    for url, body, field in (
+            ("/api/v1/sites/", '{"code": "x", "name": "a\\u0000b"}', "name"),
+            ("/api/v1/processes/import/", '{"format": "exoledger-process", "version": 1, '
+             '"process": {"name": "\\u0000"}, "steps": []}', "process.name")):
         resp = api.generic("POST", url, body, content_type="application/json")
-        assert "NUL" in _is_problem(resp, 400, "parse_error")["detail"]
+        problem = _is_problem(resp, 400, "parse_error")
+        assert "NUL" in problem["detail"] and f"'{field}'" in problem["detail"]
+        assert problem["errors"][0]["field"] == field
     assert (Site.objects.count(), Process.objects.count()) == before
 
 

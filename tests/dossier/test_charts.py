@@ -73,7 +73,8 @@ def _label_heights(svg: str) -> dict[str, float]:
 
 
 def test_labels_of_close_levels_are_moved_apart_and_keep_their_order():
-    # MTT and TD24 2 K apart, Tp and MTSR 3 K apart: on a 140 K axis of ~118 pt these labels
+    # Layout arithmetic (common practice, no source). MTT and TD24 2 K apart, Tp and MTSR
+    # 3 K apart: on a 140 K axis of ~118 pt these labels
     # would sit 1.7 pt and 2.5 pt apart, printed over each other.
     close = {**SNAP, "values": {**SNAP["values"], "mtt_k": 383.75, "td24_k": 385.75,
                                 "mtsr_k": 306.15}}
@@ -87,6 +88,7 @@ def test_labels_of_close_levels_are_moved_apart_and_keep_their_order():
 
 
 def test_labels_of_levels_far_apart_stay_at_their_lines():
+    # Layout arithmetic (common practice, no source).
     # SNAP: Tp 30, MTSR 41, MTT 111, TD24 115 °C; only MTT/TD24 crowd, so Tp and MTSR keep the
     # height of their own lines. The axis runs from Tp - 15 K to TD24 + 25 K (125 K) over
     # 0.47 x 3.5 in = 118.44 pt, so the 11.42 K from Tp to MTSR are 10.82 pt, more than the gap.
@@ -96,6 +98,7 @@ def test_labels_of_levels_far_apart_stay_at_their_lines():
 
 
 def test_spread_moves_only_crowded_labels_and_stays_inside_the_plot():
+    # Arithmetic of the layout rule (common practice, no source).
     assert charts._spread([0.0, 20.0, 40.0], 8.0, -8.0, 100.0) == [0.0, 20.0, 40.0]
     assert charts._spread([10.0, 11.0, 12.0], 8.0, -8.0, 100.0) == [10.0, 18.0, 26.0]
     # At the top the stack is pushed down instead of out of the plot.
@@ -159,6 +162,7 @@ def test_accumulation_levels_are_labelled_inside_clear_of_the_right_axis_and_of_
 
 
 def test_the_freer_side_is_the_one_without_the_curve():
+    # Geometry of a made-up curve (common practice, no source).
     with matplotlib.rc_context(charts._RC):
         fig, ax = charts._figure("t")
         ax.plot([0.0, 0.4, 0.6], [10.0, 10.0, 0.0])  # at the label's height on the left only
