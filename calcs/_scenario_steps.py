@@ -11,7 +11,7 @@ import numpy as np
 from calcs import criticality as crit
 from calcs._scenario_vessel import _cooling, _end_pressure, _mtt, _solvent
 from calcs.accumulation import analyse_accumulation
-from calcs.constants import R
+from calcs.constants import DAY, R
 from calcs.errors import (
     CalcInputError,
     optional,
@@ -24,7 +24,7 @@ from calcs.errors import (
 from calcs.kinetics import kissinger
 from calcs.phi import corrected_onset_temperature
 from calcs.scenario import Assessment, AssessmentSettings, StepInputs
-from calcs.tmr import td24, tmr_zero_order_at
+from calcs.tmr import td24, td_refusal, tmr_zero_order_at
 from calcs.vapour import (
     AntoineInputs,
 )
@@ -229,7 +229,7 @@ def _td24(c: _Ctx) -> None:
         return
     t = td24(cp, *c.q_model)
     if t is None:
-        c.warn("TD24 outside 150-1500 K for the decomposition data given")
+        c.warn(f"TD24 unknown: {td_refusal(DAY, cp, *c.q_model)}")
     c.out["td24_k"] = t
 
 

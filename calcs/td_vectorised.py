@@ -51,7 +51,8 @@ def td_for_time_vectorised(
     Returns
     -------
     numpy.ndarray
-        TD [K]; NaN where no root lies in [150 K, 1500 K] (as :func:`td_for_time`).
+        TD [K]; NaN where no root lies in [150 K, 1500 K] (as :func:`td_for_time`;
+        :func:`calcs.tmr.td_refusal` says why); a numpy float when every input is a scalar.
 
     Validity: zero order; all inputs finite and positive.
 
@@ -71,6 +72,9 @@ def td_for_time_vectorised(
             time_s, specific_heat_capacity_j_per_kg_k, activation_energy_j_per_mol,
             reference_temperature_k, heat_release_rate_at_reference_w_per_kg))
     )
+    shape = arrays[0].shape
+    # all-scalar inputs give 0-d arrays, which the in-place steps below cannot index
+    arrays = [np.atleast_1d(x) for x in arrays]
     t, cp, e, tref, q = arrays
     names = ("time_s", "specific_heat_capacity_j_per_kg_k", "activation_energy_j_per_mol",
              "reference_temperature_k", "heat_release_rate_at_reference_w_per_kg")
@@ -91,23 +95,25 @@ def td_for_time_vectorised(
     slow = (c < 4.0) if method == "newton" else np.ones(c.shape, dtype=bool)
     u = np.empty_like(c)
     if not slow.all():
-        cm2 = c - 2.0
-        u0 = np.log(c, where=~slow, out=np.full_like(c, 1.0))
-        u0 *= 2.0
-        u0 += c
-        np.log(u0, out=u0)
-        u0 *= 2.0
-        u0 += c
-        lnu = np.empty_like(c)
-        for _ in range(3):
-            # u <- u - f/f' with f = u - 2 ln u - C, written as u(2 ln u + C - 2)/(u - 2)
-            np.log(u0, out=lnu)
-            lnu *= 2.0
-            lnu += cm2
-            lnu *= u0
-            u0 -= 2.0
-            np.divide(lnu, u0, out=u0)
-        u[...] = u0
+        # the entries left to Lambert W below may hold nonsense here (log of a negative)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            cm2 = c - 2.0
+            u0 = np.log(c, where=~slow, out=np.full_like(c, 1.0))
+            u0 *= 2.0
+            u0 += c
+            np.log(u0, out=u0)
+            u0 *= 2.0
+            u0 += c
+            lnu = np.empty_like(c)
+            for _ in range(3):
+                # u <- u - f/f' with f = u - 2 ln u - C, written as u(2 ln u + C - 2)/(u - 2)
+                np.log(u0, out=lnu)
+                lnu *= 2.0
+                lnu += cm2
+                lnu *= u0
+                u0 -= 2.0
+                np.divide(lnu, u0, out=u0)
+            u[...] = u0
     if slow.any():
         cs = c[slow]
         ok = cs > 2.0 - 2.0 * math.log(2.0)
@@ -115,7 +121,7 @@ def td_for_time_vectorised(
         u[slow] = np.where(ok, -2.0 * w, np.nan)
     temp = np.divide(a, u, out=u)
     temp[~((temp >= T_LOW_K) & (temp <= T_HIGH_K))] = np.nan
-    return temp
+    return temp.reshape(shape) if shape else temp[0]
 
 
 def td24_vectorised(

@@ -204,7 +204,7 @@ def td_for_time(
     """Temperature at which the zero-order TMR_ad equals a given time (TD24, TD8 ...).
 
     Equation: root of g(T) = ln[c_p·R·T²/(E_a·q_ref)] + (E_a/R)(1/T − 1/T_ref) − ln t = 0
-    by Brent's method on [150 K, 1500 K].
+    by Brent's method on [150 K, min(1500 K, E_a/(2R))].
 
     Parameters
     ----------
@@ -222,9 +222,11 @@ def td_for_time(
     Returns
     -------
     float or None
-        TD [K], or ``None`` when g has no sign change on [150 K, 1500 K].
+        TD [K], or ``None`` when there is no root on the falling branch of g within
+        [150 K, 1500 K] (:func:`td_refusal` says why).
 
-    Validity: zero order; the log form is monotone for E_a > 2·R·1500 K ≈ 25 kJ/mol.
+    Validity: zero order; g falls only below T = E_a/(2R) (monotone on the whole bracket
+    for E_a > 2·R·1500 K ≈ 25 kJ/mol), so the bracket is [150 K, min(1500 K, E_a/(2R))].
 
     Examples
     --------
@@ -242,16 +244,84 @@ def td_for_time(
     q = require_positive(
         "heat_release_rate_at_reference_w_per_kg", heat_release_rate_at_reference_w_per_kg
     )
+    g, hi = _log_form(t, cp, e, tr, q)
+    if g(T_LOW_K) < 0.0 or g(hi) > 0.0:
+        return None
+    return optimize.brentq(g, T_LOW_K, hi, xtol=1e-9, rtol=1e-13)
+
+
+def _log_form(t: float, cp: float, e: float, tr: float, q: float):
+    """g(T) = ln TMR_ad(T) − ln t and the top of its falling branch within [150 K, 1500 K].
+
+    g falls for T < E_a/(2R) and rises above it (the T² of the formula outgrows the
+    exponential), so the physical root is the one on the falling branch [DERIVED].
+    """
     a = e / R
     const = math.log(cp * R / (e * q)) - a / tr - math.log(t)
 
     def g(temp: float) -> float:
         return const + 2.0 * math.log(temp) + a / temp
 
-    g_lo, g_hi = g(T_LOW_K), g(T_HIGH_K)
-    if g_lo * g_hi > 0.0:
+    return g, min(T_HIGH_K, max(T_LOW_K, a / 2.0))
+
+
+def td_refusal(
+    time_s: float, specific_heat_capacity_j_per_kg_k: float, activation_energy_j_per_mol: float,
+    reference_temperature_k: float, heat_release_rate_at_reference_w_per_kg: float,
+) -> str | None:
+    """Why :func:`td_for_time` (and the vectorised form) find no TD, in words; ``None`` if one exists.
+
+    Equation: the root of g(T) = ln TMR_ad(T) − ln t on the falling branch T < E_a/(2R),
+    within [150 K, 1500 K] (see :func:`td_for_time`).
+
+    Parameters
+    ----------
+    time_s : float
+        Target TMR_ad t [s].
+    specific_heat_capacity_j_per_kg_k : float
+        c_p [J/(kg K)].
+    activation_energy_j_per_mol : float
+        E_a [J/mol].
+    reference_temperature_k : float
+        T_ref [K].
+    heat_release_rate_at_reference_w_per_kg : float
+        q_ref [W/kg].
+
+    Returns
+    -------
+    str or None
+        The reason no TD exists, or ``None`` when there is one.
+
+    Validity: as :func:`td_for_time`.
+
+    Examples
+    --------
+    >>> td_refusal(86400.0, 1800.0, 100e3, 453.15, 50.0) is None
+    True
+
+    References
+    ----------
+    Townsend & Tou 1980 [DERIVED for the branch].
+    """
+    t = require_positive("time_s", time_s)
+    cp = require_positive("specific_heat_capacity_j_per_kg_k", specific_heat_capacity_j_per_kg_k)
+    e = require_positive("activation_energy_j_per_mol", activation_energy_j_per_mol)
+    tr = require_absolute_temperature("reference_temperature_k", reference_temperature_k)
+    q = require_positive(
+        "heat_release_rate_at_reference_w_per_kg", heat_release_rate_at_reference_w_per_kg
+    )
+    g, hi = _log_form(t, cp, e, tr, q)
+    hours = f"{t / HOUR:g} h"
+    if g(T_LOW_K) < 0.0:
+        return (f"the zero-order TMRad is shorter than {hours} already at {T_LOW_K:g} K: "
+                "no TD in the range the method covers")
+    if g(hi) <= 0.0:
         return None
-    return optimize.brentq(g, T_LOW_K, T_HIGH_K, xtol=1e-9, rtol=1e-13)
+    if hi < T_HIGH_K:
+        return (f"the zero-order TMRad never falls to {hours} (its minimum, "
+                f"{math.exp(g(hi)) * t / HOUR:.3g} h, lies at T = E_a/(2R) = {hi:.0f} K): "
+                f"E_a {e / 1000:g} kJ/mol is too low for the zero-order formula here")
+    return f"the zero-order TMRad is still longer than {hours} at {T_HIGH_K:g} K: no TD below it"
 
 
 def td24(

@@ -93,8 +93,10 @@ def tmr_nth_order(
     Returns
     -------
     Result
-        value TMR [s]; parameters: temperature at maximum rate [K], X*, B; a
-        warning when B < 10 (the zero-order formula is then strongly conservative).
+        value TMR [s], or ``None`` with the flag ``no_maximum_after_t0`` and a warning when
+        B ≤ n (the self-heating rate only falls: no runaway); parameters: temperature at
+        maximum rate [K], X*, B = E·(ΔT_ad/φ)/(R·T₀²) (the rise in the cell); a warning
+        when B < 10 (the zero-order formula is then strongly conservative).
 
     Validity: single-step nth-order kinetics; not autocatalytic.
 
@@ -117,7 +119,7 @@ def tmr_nth_order(
         raise CalcInputError("phi", phi, "must be at least 1")
     rise = dt_ad / ph
     ea_r = e / R
-    b = ea_r * dt_ad / (t0 * t0)
+    b = ea_r * rise / (t0 * t0)  # the rise in the cell, ΔT_ad/φ
     warnings = []
     if b < 10.0:
         warnings.append(f"B = {b:.3g} < 10: the zero-order TMR formula is strongly conservative")
@@ -133,18 +135,24 @@ def tmr_nth_order(
     def inv_rate(x: float) -> float:
         return 1.0 / (a * math.exp(-ea_r / (t0 + rise * x)) * (1.0 - x) ** n)
 
-    if x_star == 0.0:
-        tmr = 0.0
+    if method not in ("quad", "lsoda", "radau"):
+        raise CalcInputError("method", method, "must be 'quad', 'lsoda' or 'radau'")
+    no_max = x_star == 0.0
+    if no_max:
+        # dT/dt is largest at t = 0 and only falls: no runaway, not an instantaneous one
+        tmr = None
+        warnings.append(f"no maximum after t = 0: the self-heating rate only falls (B = {b:.3g} "
+                        f"≤ n = {n:g}, B with ΔT_ad/φ); this model gives no runaway")
     elif method == "quad":
         tmr, _ = integrate.quad(inv_rate, 0.0, x_star, epsabs=0.0, epsrel=1e-11, limit=500)
     elif method in ("lsoda", "radau"):
         tmr = _tmr_ode(t0, rise, ea_r, a, n, x_star, "LSODA" if method == "lsoda" else "Radau")
-    else:
-        raise CalcInputError("method", method, "must be 'quad', 'lsoda' or 'radau'")
     return Result(
-        value=float(tmr), unit="s", method=f"tmr.nth_order.{method}", warnings=tuple(warnings),
+        value=None if tmr is None else float(tmr), unit="s", method=f"tmr.nth_order.{method}",
+        warnings=tuple(warnings),
         parameters={"temperature_at_max_rate_k": t0 + rise * x_star, "conversion_at_max_rate":
-                    x_star, "b_parameter": b, "order": n, "phi": ph},
+                    x_star, "b_parameter": b, "order": n, "phi": ph,
+                    "no_maximum_after_t0": no_max},
         references=("townsend_tou1980", "methods_md"),
     )
 
