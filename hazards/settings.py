@@ -141,6 +141,16 @@ AXES_COOLOFF_TIME = env_int("EXOLEDGER_SIGNIN_LOCK_MINUTES", 15, minimum=1) / 60
 AXES_LOCKOUT_PARAMETERS = [["username", "ip_address"]]
 AXES_RESET_ON_SUCCESS = True
 AXES_ENABLE_ACCESS_FAILURE_LOG = True
+# The client's address: REMOTE_ADDR, or behind the documented proxy the last address in the
+# header it sets (hazards.lockout.client_ip). Set only when every request passes that proxy.
+EXOLEDGER_CLIENT_IP_HEADER = env_str("EXOLEDGER_CLIENT_IP_HEADER", "")
+AXES_CLIENT_IP_CALLABLE = "hazards.lockout.client_ip"
+# Password spraying: this many failed sign-ins from one address within the cool-off, whatever
+# the user names, refuse that address (sign-in page and token endpoint alike).
+EXOLEDGER_SPRAY_LIMIT = env_int("EXOLEDGER_SIGNIN_SPRAY_LIMIT", 20, minimum=1)
+# Requests to the token endpoint per client address (DRF rate syntax); 429 with Retry-After.
+# Counted in the process's cache: a per-worker fairness limit on top of the lockouts above.
+EXOLEDGER_TOKEN_RATE = env_str("EXOLEDGER_TOKEN_RATE", "30/min")
 # No AxesMiddleware or AxesBackend on purpose (see INSTALLED_APPS); silence their checks.
 SILENCED_SYSTEM_CHECKS = ["axes.W002", "axes.W003"]
 

@@ -13,6 +13,9 @@ from hazards.models import ApiToken
 from hazards.models.tokens import TOKEN_PREFIX_LENGTH, hash_token
 
 KEYWORD = "Token"
+# The name of tokens got by exchanging a password: a password change or deactivation revokes
+# them (a trigger on auth_user, hazards migration 0004).
+PASSWORD_EXCHANGE = "password exchange"
 
 
 class HashedTokenAuthentication(BaseAuthentication):

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from django.conf import settings
 from django.contrib.auth import authenticate
 from django.utils import timezone
 from drf_spectacular.utils import extend_schema, extend_schema_field, inline_serializer
@@ -9,11 +10,13 @@ from rest_framework import exceptions, permissions, serializers, status, viewset
 from rest_framework.decorators import action
 from rest_framework.permissions import AllowAny
 from rest_framework.response import Response
+from rest_framework.throttling import SimpleRateThrottle
 from rest_framework.views import APIView
 
-from hazards.api.auth import issue_token
+from hazards.api.auth import PASSWORD_EXCHANGE, issue_token
 from hazards.api.filters import TokenFilter
 from hazards.api.pagination import SingleQueryValuesMixin, StrictLimitOffsetPagination
+from hazards.lockout import client_ip, refusal_seconds
 from hazards.models import ApiToken
 from hazards.models.tokens import hash_token
 
@@ -23,11 +26,33 @@ class CredentialsSerializer(serializers.Serializer):
     password = serializers.CharField(style={"input_type": "password"}, trim_whitespace=False)
 
 
+LOCKED_OUT = ("Too many failed sign-ins for this user name or from this address: try again "
+              "after Retry-After seconds. An administrator can lift the lock earlier.")
+
+
+class TokenExchangeThrottle(SimpleRateThrottle):
+    """Requests to the token endpoint per client address (`EXOLEDGER_TOKEN_RATE`)."""
+
+    scope = "token-exchange"
+
+    def get_rate(self):
+        return settings.EXOLEDGER_TOKEN_RATE
+
+    def get_cache_key(self, request, view):
+        return self.cache_format % {"scope": self.scope, "ident": client_ip(request._request)}
+
+
 class ObtainTokenView(APIView):
-    """Exchange a user name and password for an API token."""
+    """Exchange a user name and password for an API token.
+
+    The sign-in page's lockout holds here too (five failures of one name from one address,
+    or too many failures from one address across names: 429 with `Retry-After`), and the
+    endpoint is rate-limited per address. A token got this way is revoked when the person's
+    password changes or the account is deactivated."""
 
     authentication_classes: list = []
     permission_classes = [AllowAny]
+    throttle_classes = [TokenExchangeThrottle]
 
     @extend_schema(
         request=CredentialsSerializer,
@@ -38,14 +63,21 @@ class ObtainTokenView(APIView):
     def post(self, request):
         credentials = CredentialsSerializer(data=request.data)
         credentials.is_valid(raise_exception=True)
+        username = credentials.validated_data["username"]
+        wait = refusal_seconds(request._request, username)
+        if wait is not None:
+            raise exceptions.Throttled(wait=wait, detail=LOCKED_OUT)
         user = authenticate(
             request=request._request,
-            username=credentials.validated_data["username"],
+            username=username,
             password=credentials.validated_data["password"],
         )
         if user is None or not user.is_active:
+            wait = refusal_seconds(request._request, username)
+            if wait is not None:
+                raise exceptions.Throttled(wait=wait, detail=LOCKED_OUT)
             raise exceptions.AuthenticationFailed("Unknown user name or wrong password.")
-        raw = issue_token(user=user, name="password exchange")
+        raw = issue_token(user=user, name=PASSWORD_EXCHANGE)
         token = ApiToken.objects.get(key_hash=hash_token(raw))
         return Response({"token": raw, "expires_at": token.expires_at}, status=status.HTTP_200_OK)
 

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import time
 
-from axes.handlers.proxy import AxesProxyHandler
 from django import forms
 from django.conf import settings
 from django.contrib.auth import authenticate, login, logout
@@ -15,10 +14,11 @@ from django.views.decorators.csrf import csrf_protect
 from django.views.decorators.debug import sensitive_post_parameters
 from django.views.decorators.http import require_POST
 
+from hazards.lockout import refusal_seconds
 from hazards.web.middleware import EXPIRED_FLAG, LAST_SEEN_AT, SIGNED_IN_AT
 
 WRONG_CREDENTIALS = "The user name or the password is not correct."
-LOCKED_OUT = ("Too many failed sign-ins for this user name from this address: sign-in is "
+LOCKED_OUT = ("Too many failed sign-ins for this user name or from this address: sign-in is "
               "locked for {minutes} minutes. An administrator can lift the lock earlier.")
 INACTIVE = "This account is not active; ask an administrator."
 SESSION_EXPIRED = "Your session expired; sign in again to continue."
@@ -56,29 +56,32 @@ def signin(request):
     elif request.GET.get("signed_out"):
         notice = SIGNED_OUT
     form = SignInForm(request.POST or None)
-    error, status = None, 200
+    error, status, wait = None, 200, None
     if request.method == "POST" and form.is_valid():
-        credentials = {"username": form.cleaned_data["username"]}
-        if AxesProxyHandler.is_locked(request, credentials):
-            error, status = LOCKED_OUT.format(minutes=lock_minutes()), 429
-        else:
-            user = authenticate(request, username=form.cleaned_data["username"],
+        username = form.cleaned_data["username"]
+        wait = refusal_seconds(request, username)
+        if wait is None:
+            user = authenticate(request, username=username,
                                 password=form.cleaned_data["password"])
             if user is not None and user.is_active:
                 login(request, user)  # cycles the session key
                 request.session[SIGNED_IN_AT] = request.session[LAST_SEEN_AT] = time.time()
                 return redirect(_next_url(request))
-            if AxesProxyHandler.is_locked(request, credentials):
-                error, status = LOCKED_OUT.format(minutes=lock_minutes()), 429
-            else:
-                error, status = WRONG_CREDENTIALS, 200
+            wait = refusal_seconds(request, username)
+        if wait is not None:
+            error, status = LOCKED_OUT.format(minutes=lock_minutes()), 429
+        else:
+            error, status = WRONG_CREDENTIALS, 200
     elif request.method == "POST":
         status = 200
-    return render(request, "hazards/signin.html", {
+    response = render(request, "hazards/signin.html", {
         "form": form, "error": error, "notice": notice, "next": _next_url(request),
         "idle_minutes": settings.SESSION_IDLE_SECONDS // 60,
         "absolute_hours": round(settings.SESSION_COOKIE_AGE / 3600, 1),
     }, status=status)
+    if wait is not None:
+        response["Retry-After"] = str(wait)
+    return response
 
 
 @require_POST
