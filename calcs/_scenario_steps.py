@@ -23,6 +23,7 @@ from calcs.errors import (
 )
 from calcs.kinetics import kissinger
 from calcs.phi import corrected_onset_temperature
+from calcs.plausibility import unit_slip_warnings
 from calcs.scenario import Assessment, AssessmentSettings, StepInputs
 from calcs.tmr import td24, td_refusal, tmr_zero_order_at
 from calcs.vapour import (
@@ -69,6 +70,8 @@ def run(s: StepInputs, cfg: AssessmentSettings) -> Assessment:
     _severity_probability(c)
     _cooling(c)
     _end_pressure(c)
+    for w in unit_slip_warnings(s, c.out):
+        c.warn(w)
     return Assessment(**c.out, warnings=tuple(c.warnings), methods=c.methods,
                       parameters=c.parameters, references=tuple(c.refs))
 
@@ -132,6 +135,14 @@ def _adiabatic_rise(c: _Ctx) -> None:
         c.warn(NO_CALORIMETRY)
     elif cp is None:
         c.warn("no specific heat capacity: adiabatic temperature rise unknown")
+    elif q_spec < 0.0:
+        # heat taken up, not released: a cooling failure adds no rise (never below T_p)
+        c.out["adiabatic_temperature_rise_k"] = 0.0
+        c.methods["adiabatic_temperature_rise"] = "adiabatic.endothermic_no_rise"
+        c.warn(f"the reaction is endothermic (reaction heat {q_spec / 1000:g} kJ/kg): no "
+               "adiabatic temperature rise from the synthesis, MTSR taken as the process "
+               "temperature; check the sign (heat released is entered as positive)")
+        c.ref("stoessel2008")
     else:
         c.out["adiabatic_temperature_rise_k"] = q_spec / cp
         c.methods["adiabatic_temperature_rise"] = "adiabatic.specific_heat_over_cp"

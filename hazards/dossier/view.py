@@ -107,6 +107,7 @@ METHOD_LABELS = {
     "entered": "entered from the calorimetry run",
     "series.trapezoid_per_final_mass": "trapezoid integral of the series, per final mass",
     "adiabatic.specific_heat_over_cp": "ΔTad = Q′ / cp",
+    "adiabatic.endothermic_no_rise": "endothermic reaction: no rise (ΔTad = 0)",
     "mtsr.batch": "batch: MTSR = Tp + ΔTad",
     "mtsr.semi_batch.series": "semi-batch: max of Tr(t) + X_ac(t)·Q/(m(t)·cp) over the series",
     "mtsr.semi_batch.max_accumulation": "semi-batch: Tp + X_ac,max·ΔTad",
