@@ -153,6 +153,7 @@ def indicators_payload(snapshot: IndicatorSnapshot | None) -> dict | None:
         references=list(snapshot.references),
         inputs_hash=snapshot.inputs_hash,
         calcs_version=snapshot.calcs_version,
+        libraries=dict(snapshot.libraries),
         computed_at=snapshot.computed_at.isoformat().replace("+00:00", "Z"),
     )
     return payload
@@ -187,6 +188,10 @@ class IndicatorsSerializer(serializers.Serializer):
     references = serializers.ListField(child=serializers.JSONField())
     inputs_hash = serializers.CharField(help_text="SHA-256 of the canonical JSON of the inputs.")
     calcs_version = serializers.CharField()
+    libraries = serializers.DictField(
+        child=serializers.CharField(),
+        help_text="Versions of Python and of the numeric libraries that computed these values "
+                  "(empty for snapshots computed before they were recorded).")
     computed_at = serializers.DateTimeField()
 
 

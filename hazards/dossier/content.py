@@ -28,7 +28,12 @@ from hazards.models import (
     Process,
     ReactionStep,
 )
-from hazards.services.indicators import canonical_json, sha256_hex
+from hazards.services.indicators import (
+    DOSSIER_LIBRARIES,
+    canonical_json,
+    library_versions,
+    sha256_hex,
+)
 
 SCHEMA = "exoledger.dossier/1"
 SERIES_POINTS = 400  # enough for a chart, small enough to freeze in every dossier
@@ -64,6 +69,7 @@ def _snapshot_json(snap: IndicatorSnapshot | None) -> dict | None:
         "inputs": snap.inputs,
         "inputs_hash": snap.inputs_hash,
         "calcs_version": snap.calcs_version,
+        "libraries": snap.libraries,
         "computed_at": _iso(snap.computed_at),
     }
 
@@ -287,6 +293,7 @@ def dossier_content(process: Process, revision=None) -> dict:
         "series": _series(hashes),
         "references": _references(record),
         "record_date": max(record_dates) if record_dates else "2000-01-01T00:00:00Z",
+        "software": library_versions(DOSSIER_LIBRARIES),
     }
     return {"record": record, "context": context}
 

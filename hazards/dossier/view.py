@@ -293,6 +293,9 @@ def _step(step: dict, context: dict) -> dict:
         "inputs_hash": snap.get("inputs_hash", ""),
         "computed_at": when(snap.get("computed_at")),
         "calcs_version": snap.get("calcs_version", ""),
+        "libraries_text": ", ".join(f"{name} {version}" for name, version
+                                    in (snap.get("libraries") or {}).items()
+                                    if name not in ("calcs",)),
         "no_snapshot": not snap,
     }
 
@@ -316,6 +319,8 @@ def dossier_view(content: dict, meta) -> dict:
         "history": history,
         "last_approved": context.get("last_approved"),
         "audit_head_hash": context.get("audit_head_hash"),
+        "software_text": ", ".join(f"{name} {version}" for name, version
+                                   in (context.get("software") or {}).items()),
         "revalidation": context.get("revalidation"),
         "references": sorted(context.get("references", {}).items()),
         "steps": steps,

@@ -19,6 +19,8 @@ class IndicatorSnapshot(models.Model):
     inputs = models.JSONField()
     inputs_hash = models.CharField(max_length=64)
     calcs_version = models.CharField(max_length=20)
+    # Versions of Python and of the numeric libraries that computed these values.
+    libraries = models.JSONField(default=dict, blank=True)
     values = models.JSONField()
     methods = models.JSONField(default=dict)
     parameters = models.JSONField(default=dict)

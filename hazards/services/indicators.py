@@ -10,14 +10,35 @@ from __future__ import annotations
 
 import hashlib
 import json
+import platform
 from collections.abc import Iterable
 from dataclasses import dataclass
+from functools import cache
+from importlib import metadata
 
 from django.db import connections, transaction
 from django.dispatch import Signal
 
 import calcs
 from hazards.models import IndicatorSnapshot, ReactionStep
+
+# The libraries whose releases can move an indicator: a changed number can be traced to a
+# changed library through the versions each snapshot records.
+NUMERIC_LIBRARIES = ("numpy", "scipy", "pint", "chemicals")
+# Those that also shape a dossier's pages (charts, layout).
+DOSSIER_LIBRARIES = (*NUMERIC_LIBRARIES, "matplotlib", "weasyprint")
+
+
+@cache
+def library_versions(names: tuple[str, ...] = NUMERIC_LIBRARIES) -> dict[str, str]:
+    """{"python": "3.11.7", "calcs": ..., "<library>": "<installed version>", ...}."""
+    versions = {"python": platform.python_version(), "calcs": calcs.__version__}
+    for name in names:
+        try:
+            versions[name] = metadata.version(name)
+        except metadata.PackageNotFoundError:
+            versions[name] = "not installed"
+    return versions
 
 
 def canonical_json(data) -> str:
@@ -214,6 +235,7 @@ def snapshot_for(case: StepCase, digest: str, now) -> IndicatorSnapshot:
         inputs=case.inputs,
         inputs_hash=digest,
         calcs_version=calcs.__version__,
+        libraries=library_versions(),
         values=data["values"],
         methods=data["methods"],
         parameters=data["parameters"],
