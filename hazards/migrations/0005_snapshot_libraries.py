@@ -6,7 +6,7 @@ from django.db import migrations, models
 class Migration(migrations.Migration):
 
     dependencies = [
-        ('hazards', '0003_text_length_limits'),
+        ('hazards', '0004_revoke_exchanged_tokens'),
     ]
 
     operations = [
