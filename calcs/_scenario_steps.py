@@ -105,9 +105,11 @@ def _validate(s: StepInputs) -> None:
         require_positive("peak_temperatures heating rate", beta)
         require_absolute_temperature("peak_temperatures peak", tp)
     if s.series is not None:
+        # above 1 is a feed beyond the stoichiometric amount: accepted, capped at 1 for the
+        # accumulation (METHODS.md §1.2 step 4)
         fd = np.asarray(s.series.dosed_fraction, dtype=float)
-        if fd.size and not (fd.min() >= 0.0 and fd.max() <= 1.0):
-            raise CalcInputError("series.dosed_fraction", fd, "must be a fraction between 0 and 1")
+        if fd.size and not fd.min() >= 0.0:
+            raise CalcInputError("series.dosed_fraction", fd, "must not be negative")
 
 
 def _adiabatic_rise(c: _Ctx) -> None:

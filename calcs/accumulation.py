@@ -75,14 +75,54 @@ class AccumulationAnalysis:
 
     @cached_property
     def mass_kg(self) -> np.ndarray:
-        """m(t) = m_0 + m_feed·f_d/f_d,max [kg]."""
-        return _mass(self.dosed_fraction_entered, self.initial_mass_kg, self.feed_mass_kg)
+        """m(t) = m_0 + m_feed·f_d/max(f_d,max, 1) [kg]."""
+        return mass_present(self.dosed_fraction_entered, self.initial_mass_kg, self.feed_mass_kg)
 
 
-def _mass(fd: np.ndarray, m0: float, mf: float, out: np.ndarray | None = None) -> np.ndarray:
-    fd_max = float(fd.max())
-    out = np.multiply(fd, mf / fd_max if fd_max > 0.0 else 0.0, out=out)
-    out += m0
+def _feed_mass_per_fraction(fd_max: float, feed_mass_kg: float) -> float:
+    """Mass per unit of dosed fraction [kg]: the feed is whole at f_d = 1, or at f_d,max
+    when the record doses beyond the stoichiometric amount. A record that stops before
+    f_d = 1 therefore holds m_0 + m_feed·f_d at its last point, not the whole feed."""
+    return feed_mass_kg / max(fd_max, 1.0)
+
+
+def mass_present(dosed_fraction, initial_mass_kg: float, feed_mass_kg: float,
+                 out: np.ndarray | None = None) -> np.ndarray:
+    """Mass in the reactor at each point of a record.
+
+    Equation: m(t) = m_0 + m_feed·f_d(t)/max(f_d,max, 1).
+
+    Parameters
+    ----------
+    dosed_fraction : array_like
+        Dosed fraction of the stoichiometric feed f_d [-] (may exceed 1).
+    initial_mass_kg : float
+        m_0 [kg].
+    feed_mass_kg : float
+        The whole feed [kg]: the stoichiometric amount, or all that was dosed when the
+        record goes beyond it.
+    out : numpy.ndarray or None
+        Output buffer.
+
+    Returns
+    -------
+    numpy.ndarray
+        m(t) [kg].
+
+    Validity: the feed's mass is proportional to the dosed fraction.
+
+    Examples
+    --------
+    >>> mass_present([0.0, 0.3, 0.6], 0.4, 0.1).round(3).tolist()  # record stops at 0.6
+    [0.4, 0.43, 0.46]
+
+    References
+    ----------
+    METHODS.md §1.2 steps 4 and 6.
+    """
+    fd = np.asarray(dosed_fraction, dtype=float)
+    out = np.multiply(fd, _feed_mass_per_fraction(float(fd.max()), feed_mass_kg), out=out)
+    out += initial_mass_kg
     return out
 
 
@@ -210,7 +250,7 @@ def analyse_accumulation(
     """Thermal accumulation X_ac(t) and MTSR(t) with the mass present at each time.
 
     Equations: X_th = Q/Q_tot; X_ac = max(min(f_d, 1) − X_th, 0);
-    m(t) = m_0 + m_feed·f_d(t)/f_d,max; MTSR(t) = T_r(t) + X_ac·Q_tot/(m(t)·c_p);
+    m(t) = m_0 + m_feed·f_d(t)/max(f_d,max, 1); MTSR(t) = T_r(t) + X_ac·Q_tot/(m(t)·c_p);
     Q′ = Q_tot/(m_0 + m_feed).
 
     Parameters
@@ -227,7 +267,9 @@ def analyse_accumulation(
     initial_mass_kg : float
         Mass in the reactor before dosing m_0 [kg].
     feed_mass_kg : float
-        Feed mass dosed over the record [kg] (0 for a batch record).
+        The whole feed [kg] (0 for a batch record): the mass at f_d = 1, or all that was
+        dosed when the record goes beyond the stoichiometric amount. A record that stops
+        before f_d = 1 holds m_0 + m_feed·f_d at its end (and says so).
     reactor_temperature_k : array_like or None
         Reactor temperature T_r(t) [K]; if ``None``, ``process_temperature_k``.
     process_temperature_k : float or None
@@ -317,15 +359,26 @@ def analyse_accumulation(
             "check signal lag, baseline or endothermic mixing effects"
         )
         np.maximum(x_ac, 0.0, out=x_ac)
+    if fd_max > 1.0:
+        warnings.append(
+            f"feed beyond the stoichiometric amount (up to {fd_max:.3g} equivalents): the dosed "
+            "fraction is capped at 1 for the accumulation (METHODS.md §1.2 step 4)"
+        )
+    elif fd_max < 1.0:
+        warnings.append(
+            f"the record ends at a dosed fraction of {fd_max:.3g}, before the whole feed: the "
+            f"mass present is m_0 + feed mass × dosed fraction ({m0 + mf * fd_max:.4g} kg at "
+            "the end, not the whole feed), and the heat of the rest of the feed is not in Q_tot"
+        )
+    per_fraction = _feed_mass_per_fraction(fd_max, mf)
     # MTSR = T_r + X_ac / (m(t)·c_p/Q_tot), with m(t)·c_p/Q_tot built in the MTSR buffer
     scale = cp / q_tot
-    mtsr = np.multiply(fd, (mf / fd_max if fd_max > 0.0 else 0.0) * scale,
-                       out=mtsr if mtsr is not fd else None)
+    mtsr = np.multiply(fd, per_fraction * scale, out=mtsr if mtsr is not fd else None)
     mtsr += m0 * scale
     np.divide(x_ac, mtsr, out=mtsr)
     mtsr += tr
     i_max = int(np.argmax(mtsr))
-    m_at_qmax = m0 + (mf * fd[i_qmax] / fd_max if fd_max > 0.0 else 0.0)
+    m_at_qmax = m0 + per_fraction * fd[i_qmax]
     return AccumulationAnalysis(
         time_s=t,
         heat_j=heat,

@@ -29,7 +29,9 @@ POST_DOC = f"""Attach the calorimeter's time series to the run (multipart form, 
 The file is UTF-8 CSV with a header naming each column and its unit in square brackets:
 `time [min]`, `heat_release_rate [W]`, and `dosed_fraction [-]` or `dosed_mass [g]`,
 optionally `reactor_temperature [degC]`; any unit of the right dimension is accepted. Form
-fields `initial_mass` and `feed_mass` are the lab-scale masses (e.g. `"400 g"`).
+fields `initial_mass` and `feed_mass` are the lab-scale masses (e.g. `"400 g"`). A
+`dosed_fraction` above 1 (up to 3) is a feed beyond the stoichiometric amount: it is accepted
+and capped at 1 for the accumulation (METHODS.md §1.2 step 4).
 
 The original bytes are stored with their SHA-256; the run's `specific_reaction_heat`
 (Q′ = Q_tot / (m_0 + m_feed)) and `max_accumulation` are derived from the series by
@@ -58,8 +60,10 @@ class UploadSerializer(serializers.Serializer):
     file = serializers.FileField(help_text="The CSV file (see the operation's description).")
     initial_mass = FormQuantityField("mass", help_text="Lab-scale mass before dosing, e.g. "
                                      "`\"400 g\"`.")
-    feed_mass = FormQuantityField("mass", help_text="Lab-scale mass dosed over the record, e.g. "
-                                  "`\"100 g\"`.")
+    feed_mass = FormQuantityField("mass", help_text="Lab-scale mass of the whole feed, e.g. "
+                                  "`\"100 g\"`: the mass at dosed fraction 1, or all that was "
+                                  "dosed when the feed goes beyond the stoichiometric amount. A "
+                                  "record that stops earlier holds only the part dosed.")
 
 
 class CurveColumnSerializer(serializers.Serializer):

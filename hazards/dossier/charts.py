@@ -24,7 +24,7 @@ import numpy as np
 from matplotlib.figure import Figure
 from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
 
-from calcs.accumulation import analyse_accumulation
+from calcs.accumulation import analyse_accumulation, mass_present
 from calcs.constants import DAY, HOUR, T_ZERO_C, R
 from calcs.tmr import tmr_zero_order_at
 from hazards.dossier.view import scientific
@@ -442,7 +442,7 @@ def heat_release_chart(snapshot, series: dict | None = None) -> str:
         if series and series.get("time_s") and plant_mass:
             t = np.asarray(series["time_s"], dtype=float)
             fd = np.asarray(series["dosed_fraction"], dtype=float)
-            m = series["initial_mass_kg"] + series["feed_mass_kg"] * fd / max(float(fd.max()), 1e-12)
+            m = mass_present(fd, series["initial_mass_kg"], series["feed_mass_kg"])
             q = np.asarray(series["heat_release_rate_w"], dtype=float) / m * plant_mass
             ax.plot(t / HOUR, q / 1000, color=INK, linestyle="-",
                     label="heat release scaled to plant mass")

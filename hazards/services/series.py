@@ -36,6 +36,10 @@ MAX_BYTES = 4 * 1024 * 1024
 MAX_ROWS = 50_000
 MAX_PROBLEMS = 200
 FRACTION_TOLERANCE = 1e-9
+# A dosed_fraction column may go beyond the stoichiometric amount (a 1.1-1.2 equivalent feed
+# is ordinary practice; calcs caps it at 1 for the accumulation, METHODS.md §1.2 step 4).
+# More than this many equivalents is taken as a typing slip (common practice, no source).
+MAX_EQUIVALENTS = 3.0
 
 # column -> (SI unit its values are converted to, physical rule or None)
 COLUMNS = {
@@ -321,15 +325,20 @@ def parse_series(raw: bytes, *, feed_mass_kg: float | None = None,
     if "dosed_mass" in si:
         name, fraction = "dosed_mass", si.pop("dosed_mass") / feed_mass_kg
         rule = "must not exceed the feed mass"
+        limit = 1.0
     else:
         name, fraction = "dosed_fraction", si.pop("dosed_fraction")
-        rule = "must be a fraction in 0..1"
-    for i in np.flatnonzero(fraction > 1.0 + FRACTION_TOLERANCE)[:MAX_PROBLEMS]:
+        rule = (f"must be at most {MAX_EQUIVALENTS:g} (equivalents of the stoichiometric feed; "
+                "above 1 is a surplus feed)")
+        limit = MAX_EQUIVALENTS
+    for i in np.flatnonzero(fraction > limit + FRACTION_TOLERANCE)[:MAX_PROBLEMS]:
         problems.add(row_numbers[i], columns[name][1], repr(float(values[name][i])), rule,
                      "out_of_range")
     if problems:
         return problems.result()
-    fraction = np.minimum(fraction, 1.0)  # rounding of a full feed (e.g. 5 g of 5 g)
+    # rounding of a full feed (e.g. 5 g of 5 g); a surplus beyond the tolerance is kept
+    fraction = np.where(fraction <= 1.0 + FRACTION_TOLERANCE, np.minimum(fraction, 1.0),
+                        fraction)
     return SeriesParse(series=ParsedSeries(
         time_s=si["time"].tolist(),
         heat_release_rate_w=si["heat_release_rate"].tolist(),

@@ -48,7 +48,9 @@ class ChooseForm(forms.Form):
         "or dosed_fraction [-], and optionally reactor_temperature [degC]."))
     initial_mass = QuantityFormField(kind="mass", label="Lab-scale mass before dosing",
                                      help_text="e.g. 400 g")
-    feed_mass = QuantityFormField(kind="mass", label="Lab-scale mass dosed", help_text="e.g. 100 g")
+    feed_mass = QuantityFormField(kind="mass", label="Lab-scale mass dosed (whole feed)",
+                                  help_text="e.g. 100 g: the mass at dosed fraction 1, or all "
+                                  "that was dosed for a feed beyond the stoichiometric amount")
     instrument = forms.CharField(label="Instrument", max_length=120, required=False)
     run_date = forms.DateField(label="Run date", required=False,
                                widget=forms.DateInput(attrs={"type": "date"}))

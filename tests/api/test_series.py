@@ -85,7 +85,7 @@ def test_a_bad_cell_is_refused_with_its_row_and_column(cell, code):
          [(1, "colour [-]", "unknown_column"), (1, "heat_release_rate", "missing_column")]),
         (b"time [min],heat_release_rate [W],dosed_fraction [-]\n0,1,0\n1,1,1\n1,1,1\n0.5,1,1\n",
          [(4, "time [min]", "not_increasing"), (5, "time [min]", "not_increasing")]),
-        (b"time [min],heat_release_rate [W],dosed_fraction [-]\n0,1,0\n1,1,1.5\n",
+        (b"time [min],heat_release_rate [W],dosed_fraction [-]\n0,1,0\n1,1,4.5\n",
          [(3, "dosed_fraction [-]", "out_of_range")]),
         (b"time [min],heat_release_rate [W],dosed_fraction [-]\n0,1,0\n1,1\n2,1,1\n",
          [(3, None, "ragged_row")]),
@@ -171,3 +171,15 @@ def test_a_bad_upload_stores_nothing_and_lists_every_problem(api):
         "file": SimpleUploadedFile("a.csv", GOOD)}, format="multipart",
         HTTP_IF_MATCH=f'"calorimetryrun-{run.pk}-v{run.version + 5}"')
     assert guarded.status_code == 412 and not m.CalorimetrySeries.objects.exists()
+
+
+def test_a_dosed_fraction_above_one_is_a_surplus_feed_and_is_kept():
+    # METHODS.md §1.2 step 4: a feed beyond the stoichiometric amount is accepted (calcs caps
+    # it at 1 for the accumulation); more than 3 equivalents is a typing slip (common
+    # practice, no source)
+    raw = b"time [s],heat_release_rate [W],dosed_fraction [-]\n0,0,0\n600,10,0.6\n1200,0,1.2\n"
+    s = parse_series(raw).series
+    assert s is not None and s.dosed_fraction == pytest.approx([0.0, 0.6, 1.2])
+    bad = parse_series(b"time [s],heat_release_rate [W],dosed_fraction [-]\n0,0,0\n600,10,4\n")
+    assert bad.series is None
+    assert [(p.row, p.code) for p in bad.problems] == [(3, "out_of_range")]

@@ -5,7 +5,7 @@ import dataclasses
 import pytest
 
 from calcs.constants import R
-from calcs.scenario import StepInputs, assess_step
+from calcs.scenario import SeriesInputs, StepInputs, assess_step
 
 K = 273.15
 CP = 2000.0
@@ -102,3 +102,36 @@ def test_an_ordinary_step_has_no_plausibility_warning():
     )
     assert not [w for w in a.warnings if w.startswith("plausibility")]
     assert a.adiabatic_temperature_rise_k == pytest.approx(200.0)
+
+
+# ---- item 3: feeds above the stoichiometric amount; records that stop early -------------
+
+
+def test_a_feed_above_stoichiometric_is_accepted_and_capped_at_one():
+    # METHODS.md §1.2 steps 1-6, worked by hand: Q = [0, 3000, 9000, 12000] J (trapezoid),
+    # X_th = [0, .25, .75, 1], f = min(f_d, 1) = [0, .6, 1, 1] (step 4 caps a 1.2-equivalent
+    # feed), X_ac = [0, .35, .25, 0]; m = 0.4 + 0.12·f_d/1.2 = [.40, .46, .52, .52] kg (0.12 kg
+    # is the whole feed, dosed by 1.2 equivalents); MTSR(600 s) = T_p + .35·12000/(.46·2000).
+    series = SeriesInputs([0, 600, 1200, 1800], [0, 10, 10, 0], [0, 0.6, 1.2, 1.2], None, 0.4, 0.12)
+    a = assess_step(
+        StepInputs("semi_batch", 303.15, 1000.0, CP, "open", None, 1200.0, series=series,
+                   mtt_override_k=383.15, **kinetics_with_td24(150))
+    )
+    assert a.methods["mtsr"] == "mtsr.semi_batch.series"
+    assert a.mtsr_k - 303.15 == pytest.approx(0.35 * 12000 / (0.46 * 2000), rel=1e-12)
+    assert a.mtsr_time_s == 600.0
+    assert any("1.2 equivalents" in w and "capped at 1" in w for w in a.warnings)
+
+
+def test_a_record_that_stops_before_the_feed_ends_does_not_get_the_whole_feed_mass():
+    # METHODS.md §1.2 step 6 with m(t) the mass present: the record stops at f_d = 0.6 of a
+    # 0.1 kg feed, so its last point holds 0.4 + 0.06 kg, not 0.5 kg. Worked by hand:
+    # Q = [0, 0, 1200] J, X_ac = [0, .3, 0], m(600 s) = 0.43 kg,
+    # MTSR(600 s) − T_p = .3·1200/(.43·2000) = 0.41860 K (0.4 K with the whole feed mass).
+    from calcs.accumulation import analyse_accumulation
+
+    a = analyse_accumulation([0, 600, 1200], [0, 0, 4], [0, 0.3, 0.6], CP, 0.4, 0.1,
+                             process_temperature_k=303.15)
+    assert a.mass_kg.tolist() == pytest.approx([0.4, 0.43, 0.46])
+    assert a.max_mtsr_k - 303.15 == pytest.approx(0.3 * 1200 / (0.43 * 2000), rel=1e-12)
+    assert any("ends at a dosed fraction of 0.6" in w for w in a.warnings)

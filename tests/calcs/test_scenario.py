@@ -220,7 +220,7 @@ def test_to_dict_is_json_safe():
      (dict(max_accumulation=1.5), "max_accumulation"),
      (dict(operation_mode="continuous"), "operation_mode"),
      (dict(phi_factor=0.5), "phi_factor"),
-     (dict(series=SeriesInputs([0, 60], [0, 1], [0, 1.2], None, 1.0, 0.1)),
+     (dict(series=SeriesInputs([0, 60], [0, 1], [0, -0.2], None, 1.0, 0.1)),
       "series.dosed_fraction")],
 )
 def test_invalid_inputs_raise_errors_naming_the_argument(change, argument):
