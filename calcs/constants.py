@@ -137,4 +137,26 @@ REFERENCES: dict[str, str] = {
         "K.R. Westerterp, E.J. Molga, 'Safety and runaway prevention in batch and semibatch "
         "reactors - a review', Chem. Eng. Res. Des. 84 (2006) 543-552 (details from memory)."
     ),
+    "wallis1969": (
+        "G.B. Wallis, One-dimensional Two-phase Flow, McGraw-Hill, New York, 1969 (flooding "
+        "correlation; details from memory)."
+    ),
+    "leung1986": (
+        "J.C. Leung, 'Simplified vent sizing equations for emergency relief requirements in "
+        "reactors and storage vessels', AIChE J. 32 (1986) 1622-1634; and 'A generalized "
+        "correlation for one-component homogeneous equilibrium flashing choked flow', AIChE J. "
+        "32 (1986) 1743-1746 (the omega method; details from memory)."
+    ),
+    "fauske1985": (
+        "H.K. Fauske, 'Emergency relief system design', Chem. Eng. Prog. 81(8) (1985) 53-56 "
+        "(equilibrium rate model; details from memory)."
+    ),
+    "fisher1992_diers": (
+        "H.G. Fisher et al., Emergency Relief System Design Using DIERS Technology, AIChE, "
+        "New York, 1992 (from memory)."
+    ),
+    "ccps2017_relief": (
+        "CCPS, Guidelines for Pressure Relief and Effluent Handling Systems, 2nd ed., AIChE/"
+        "Wiley, 2017 (from memory)."
+    ),
 }

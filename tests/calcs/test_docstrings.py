@@ -51,7 +51,7 @@ def test_every_module_has_public_functions_to_check():
     assert len(list(public_functions())) > 80
 
 
-@pytest.mark.parametrize("func", public_functions())
+@pytest.mark.parametrize("func", list(public_functions()))
 def test_docstring_has_parameters_returns_and_references_or_examples(func):
     doc = inspect.getdoc(func)
     assert doc, "missing docstring"
@@ -63,7 +63,7 @@ def test_docstring_has_parameters_returns_and_references_or_examples(func):
         assert "Parameters" in parts
 
 
-@pytest.mark.parametrize("func", public_functions())
+@pytest.mark.parametrize("func", list(public_functions()))
 def test_documented_parameters_match_the_signature(func):
     parts = sections(inspect.getdoc(func))
     signature = [p for p in inspect.signature(func).parameters if p not in ("self", "cls")]
