@@ -3,7 +3,6 @@ so that a changed number can be traced to a changed library (issue: reproducible
 
 from __future__ import annotations
 
-import json
 import platform
 from importlib import metadata
 
