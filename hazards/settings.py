@@ -164,6 +164,12 @@ REST_FRAMEWORK = {
         "rest_framework.authentication.SessionAuthentication",
     ],
     "DEFAULT_PERMISSION_CLASSES": ["rest_framework.permissions.IsAuthenticated"],
+    # One bounded parser set for every view (hazards.api.parsers): no 500 from a body.
+    "DEFAULT_PARSER_CLASSES": [
+        "hazards.api.parsers.LimitedJSONParser",
+        "hazards.api.parsers.LimitedFormParser",
+        "hazards.api.parsers.LimitedMultiPartParser",
+    ],
     "DEFAULT_SCHEMA_CLASS": "hazards.api.schema.ExoledgerAutoSchema",
     "DEFAULT_FILTER_BACKENDS": [
         "django_filters.rest_framework.DjangoFilterBackend",

@@ -8,10 +8,9 @@ every list filters (`hazards.api.filters`), orders (`?ordering=`) and paginates
 
 from __future__ import annotations
 
-from django.conf import settings
 from django.db.models import Prefetch
 from drf_spectacular.utils import extend_schema
-from rest_framework import parsers, permissions, viewsets
+from rest_framework import permissions, viewsets
 from rest_framework.decorators import action
 from rest_framework.permissions import AllowAny
 from rest_framework.response import Response
@@ -21,9 +20,10 @@ from hazards.access import ProcessRolePermission, visible
 from hazards.api import exchange_api, filters, series_api
 from hazards.api import serializers as s
 from hazards.api.concurrency import ETagMixin, stale
-from hazards.api.errors import PROBLEM_TYPES, ProblemError
+from hazards.api.errors import PROBLEM_TYPES
 from hazards.api.idempotency import IdempotentCreateMixin
 from hazards.api.pagination import SingleQueryValuesMixin, StrictLimitOffsetPagination
+from hazards.api.parsers import LimitedJSONParser, LimitedMultiPartParser
 from hazards.models import (
     CalorimetryRun,
     DecompositionTest,
@@ -35,46 +35,6 @@ from hazards.models import (
     Vessel,
 )
 from hazards.services.records import StaleRecord, record_delete
-
-
-class LimitedJSONParser(parsers.JSONParser):
-    """JSON bodies up to the upload limit (DRF does not apply Django's to its own parsing)."""
-
-    def parse(self, stream, media_type=None, parser_context=None):
-        request = (parser_context or {}).get("request")
-        length = request.META.get("CONTENT_LENGTH") if request is not None else None
-        if length and length.isdigit() and int(length) > settings.DATA_UPLOAD_MAX_MEMORY_SIZE:
-            raise ProblemError("payload_too_large", f"The body is larger than "
-                               f"{settings.DATA_UPLOAD_MAX_MEMORY_SIZE} bytes.")
-        try:
-            data = super().parse(stream, media_type, parser_context)
-        except RecursionError:  # e.g. 10 000 nested arrays: a 400, not a 500
-            raise ProblemError("parse_error", "The JSON is nested too deeply.") from None
-        _refuse_unstorable_text(data)
-        return data
-
-
-def _refuse_unstorable_text(data, field: str = "") -> None:
-    """JSON may escape half a UTF-16 pair (`"\\ud800"`) or a NUL (`"\\u0000"`); PostgreSQL
-    stores neither in text or jsonb, so such a body is refused whole, naming the field (the
-    fuzzer sent NULs through the process import, which reached the database as a 503)."""
-    if isinstance(data, str):
-        rule = ("no lone UTF-16 surrogate (invalid Unicode)"
-                if any("\ud800" <= c <= "\udfff" for c in data)
-                else "no NUL character (U+0000), which no text field can store"
-                if "\x00" in data else None)
-        if rule is not None:
-            where = f"field '{field}'" if field else "body"
-            raise ProblemError("parse_error", f"The {where} breaks a rule of stored text: {rule}.",
-                               errors=[{"field": field or None, "value": None, "rule": rule,
-                                        "code": "invalid_text"}])
-    elif isinstance(data, dict):
-        for key, value in data.items():
-            _refuse_unstorable_text(key, f"{field} (a key)" if field else "(a key)")
-            _refuse_unstorable_text(value, f"{field}.{key}" if field else str(key))
-    elif isinstance(data, list):
-        for index, value in enumerate(data):
-            _refuse_unstorable_text(value, f"{field}[{index}]")
 
 
 class ModelPermissions(permissions.DjangoModelPermissions):
@@ -219,7 +179,7 @@ class CalorimetryRunViewSet(RecordViewSet):
                    responses={201: series_api.SeriesSerializer}, description=series_api.POST_DOC,
                    filters=False)
     @action(detail=True, methods=["get", "post"], url_path="series", filter_backends=[],
-            pagination_class=None, parser_classes=[parsers.MultiPartParser],
+            pagination_class=None, parser_classes=[LimitedMultiPartParser],
             permission_classes=[permissions.IsAuthenticated,
                                                        series_api.SeriesPermission,
                                                        ProcessRolePermission])

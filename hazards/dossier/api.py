@@ -8,12 +8,12 @@ from django.urls import path
 from drf_spectacular.utils import extend_schema
 from rest_framework import permissions, serializers, status, viewsets
 from rest_framework.decorators import action
-from rest_framework.parsers import FormParser, MultiPartParser
 from rest_framework.response import Response
 from rest_framework.routers import SimpleRouter
 from rest_framework.views import APIView
 
 from hazards.access import visible
+from hazards.api.parsers import LimitedFormParser, LimitedMultiPartParser
 from hazards.dossier.models import Dossier, DossierStatus
 from hazards.dossier.seal import verify_pdf
 from hazards.dossier.services import NOT_RETRYABLE, dossier_request, dossier_retry
@@ -122,7 +122,7 @@ class VerifyDossierView(APIView):
     """Upload a PDF: is it an unaltered dossier of this system, and of which revision?"""
 
     permission_classes = [permissions.IsAuthenticated]
-    parser_classes = [MultiPartParser, FormParser]
+    parser_classes = [LimitedMultiPartParser, LimitedFormParser]
 
     @extend_schema(request={"multipart/form-data": VerifyUploadSerializer},
                    responses={200: dict})

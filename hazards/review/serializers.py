@@ -103,7 +103,8 @@ class FindingSerializer(serializers.ModelSerializer):
         model = Finding
         fields = ["id", "process", "revision", "title", "description", "kind", "owner",
                   "due_date", "status", "raised_by", "created_at", "reason"]
-        read_only_fields = ["raised_by", "created_at"]
+        # A finding starts open; its status moves only through the rules of the service.
+        read_only_fields = ["status", "raised_by", "created_at"]
 
 
 class FindingUpdateSerializer(FindingSerializer):

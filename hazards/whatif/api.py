@@ -18,7 +18,7 @@ from rest_framework.views import APIView
 from hazards.access import visible
 from hazards.api.errors import ProblemError
 from hazards.api.fields import QuantityField
-from hazards.api.views import LimitedJSONParser
+from hazards.api.parsers import LimitedJSONParser
 from hazards.models import ReactionStep
 from hazards.quantities import QuantityError, parse_quantity
 from hazards.whatif import services
