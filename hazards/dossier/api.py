@@ -129,7 +129,8 @@ class VerifyDossierView(APIView):
     def post(self, request):
         body = VerifyUploadSerializer(data=request.data)
         body.is_valid(raise_exception=True)
-        result = verify_pdf(body.validated_data["file"].read())
+        result = verify_pdf(body.validated_data["file"].read(),
+                            dossiers=_visible_dossiers(request.user))
         return Response(result.to_dict())
 
 

@@ -76,8 +76,18 @@ def _keywords(pdf) -> str:
     return text
 
 
-def verify_pdf(data: bytes) -> Verification:
-    """Check a PDF: ours? sealed? unaltered? attachments as issued and as in the database?"""
+NOT_HERE = ("dossier {id} is not in this database, or not one you may see: nothing more is "
+            "said about it (its seal is not checked)")
+
+
+def verify_pdf(data: bytes, *, dossiers=None) -> Verification:
+    """Check a PDF: ours? sealed? unaltered? attachments as issued and as in the database?
+
+    `dossiers`: the dossiers the caller may see (None: all, for the command line). A PDF
+    naming any other dossier gets exactly the answer a foreign PDF gets: what the file
+    itself says, and no word from the database (not even whether the seal holds), so a
+    relabelled PDF reveals nothing of a process the caller cannot see.
+    """
     import pikepdf
 
     from hazards.dossier.content import content_hashes
@@ -97,9 +107,18 @@ def verify_pdf(data: bytes) -> Verification:
                                                 "context-sha256", "seal"} <= set(found):
         v.problems.append("no Exoledger dossier seal in the PDF metadata")
         return v
+    if not all(found[k].isdigit() and len(found[k]) <= 18 for k in ("id", "process", "version")):
+        v.problems.append("the dossier seal in the PDF metadata is malformed")
+        return v
     v.is_dossier = True
     v.dossier_id, v.process_id, v.version = int(found["id"]), int(found["process"]), \
         int(found["version"])
+    scope = Dossier.objects.all() if dossiers is None else dossiers
+    dossier = (Dossier.objects.select_related("process")
+               .filter(pk=v.dossier_id, pk__in=scope.values("pk")).first())
+    if dossier is None:
+        v.problems.append(NOT_HERE.format(id=v.dossier_id))
+        return v
     expected = seal_for(dossier_id=v.dossier_id, process_id=v.process_id, version=v.version,
                         content_sha256=found["content-sha256"],
                         context_sha256=found["context-sha256"])
@@ -116,10 +135,6 @@ def verify_pdf(data: bytes) -> Verification:
                                     == found["context-sha256"])
         if not v.attachments_match_seal:
             v.problems.append("an attachment differs from the one the seal covers")
-    dossier = Dossier.objects.select_related("process").filter(pk=v.dossier_id).first()
-    if dossier is None:
-        v.problems.append(f"dossier {v.dossier_id} is not in this database")
-        return v
     v.process, v.status = dossier.process.name, dossier.status
     rev = dossier.content.get("context", {}).get("revision")
     v.revision = (f"revision {rev['number']} ({rev['state']})" if rev

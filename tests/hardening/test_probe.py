@@ -5,6 +5,8 @@ a process the caller cannot see. Each answer must be a 4xx problem document, nev
 
 from __future__ import annotations
 
+import json
+
 import pytest
 from rest_framework.test import APIClient
 
@@ -100,3 +102,71 @@ def test_a_writable_status_on_finding_creation_is_refused_not_a_type_error(peopl
     assert response.status_code in (201, 400), response.content
     if response.status_code == 201:  # ignored: a new finding is open, whatever was sent
         assert response.json()["status"] == "open"
+
+
+def _sealed_pdf(*, dossier_id, process_id, version, content="0" * 64, context="0" * 64,
+                seal=None) -> bytes:
+    """A small PDF whose metadata names a dossier, as a relabelled dossier would."""
+    import io
+
+    import pikepdf
+
+    from hazards.dossier.seal import seal_for
+
+    seal = seal or seal_for(dossier_id=dossier_id, process_id=process_id, version=version,
+                            content_sha256=content, context_sha256=context)
+    pdf = pikepdf.new()
+    pdf.add_blank_page()
+    with pdf.open_metadata() as meta:
+        meta["pdf:Keywords"] = (f"exoledger-dossier; id={dossier_id}; process={process_id}; "
+                                f"version={version}; content-sha256={content}; "
+                                f"context-sha256={context}; seal={seal}")
+    out = io.BytesIO()
+    pdf.save(out)
+    return out.getvalue()
+
+
+def _verify(user, data: bytes) -> dict:
+    from django.core.files.uploadedfile import SimpleUploadedFile
+
+    response = _client(user).post("/api/v1/dossiers/verify/",
+                                  {"file": SimpleUploadedFile("d.pdf", data)},
+                                  format="multipart")
+    assert response.status_code == 200, response.content
+    return response.json()
+
+
+@pytest.mark.django_db
+def test_verify_answers_a_pdf_relabelled_with_a_hidden_dossier_as_a_foreign_pdf(people):
+    # Probe of issue 18 (item 6): a PDF relabelled with another process's dossier id answered
+    # with that process's name, revision and state even though the seal failed.
+    from hazards.dossier.services import dossier_request
+    from tests.factories import ProcessFactory
+
+    hidden, _ = dossier_request(process=people["process"], enqueue=False)
+    stranger = make_user("stranger")
+    own = ProcessFactory(name="Stranger's own route")
+    from hazards.review.services.roles import role_grant
+
+    role_grant(process=own, user=stranger, role="author", granted_by=None, reason="probe")
+    args = {"process_id": hidden.process_id, "version": hidden.version,
+            "content": hidden.content_sha256, "context": hidden.context_sha256}
+    relabelled = _verify(stranger, _sealed_pdf(dossier_id=hidden.pk, seal="ab" * 32, **args))
+    genuine = _verify(stranger, _sealed_pdf(dossier_id=hidden.pk, **args))
+    foreign = _verify(stranger, _sealed_pdf(dossier_id=hidden.pk + 10_000, seal="ab" * 32,
+                                            **args))
+    for answer in (relabelled, genuine, foreign):
+        assert people["process"].name not in json.dumps(answer)
+        assert (answer["process"], answer["revision"], answer["status"]) == ("", "", "")
+        assert answer["seal_valid"] is False and answer["valid"] is False
+
+    def same(answer):  # what differs is what the uploaded file itself says
+        return {k: v for k, v in answer.items() if k not in ("sha256", "dossier_id")} | {
+            "problems": [p.replace(str(answer["dossier_id"]), "N") for p in answer["problems"]]}
+
+    assert same(relabelled) == same(genuine) == same(foreign)
+    # ... while a caller who may see the process gets the database's answer.
+    seen = _verify(people["author"], _sealed_pdf(dossier_id=hidden.pk, **args))
+    assert seen["process"] == people["process"].name and seen["seal_valid"] is True
+    malformed = _verify(stranger, _sealed_pdf(dossier_id="9" * 30, **args))
+    assert malformed["is_dossier"] is False
