@@ -9,6 +9,7 @@ from typing import Any
 import numpy as np
 
 from calcs import criticality as crit
+from calcs._scenario_edges import _extrapolation, _mtsr_from_entered_accumulation
 from calcs._scenario_vessel import _cooling, _end_pressure, _mtt, _solvent
 from calcs.accumulation import analyse_accumulation
 from calcs.constants import DAY, R
@@ -48,6 +49,7 @@ class _Ctx:
     antoine: AntoineInputs | None = None
     specific_heat: float | None = None
     series_peak_w_per_kg: float | None = None
+    lowest_measured_k: float | None = None  # lowest temperature the decomposition data saw
 
     def ref(self, *keys: str) -> None:
         self.refs.extend(k for k in keys if k not in self.refs)
@@ -67,6 +69,7 @@ def run(s: StepInputs, cfg: AssessmentSettings) -> Assessment:
     _mtt(c)
     _td24(c)
     _tmr_and_class(c)
+    _extrapolation(c)
     _severity_probability(c)
     _cooling(c)
     _end_pressure(c)
@@ -99,6 +102,10 @@ def _validate(s: StepInputs) -> None:
         optional(require_non_negative, name, getattr(s, name))
     optional(require_finite, "specific_reaction_heat_j_per_kg", s.specific_reaction_heat_j_per_kg)
     optional(require_fraction, "max_accumulation", s.max_accumulation)
+    if s.initial_mass_fraction is not None and not (
+            0.0 < require_finite("initial_mass_fraction", s.initial_mass_fraction) <= 1.0):
+        raise CalcInputError("initial_mass_fraction", s.initial_mass_fraction,
+                             "must be a fraction above 0 and at most 1")
     if s.phi_factor is not None and require_finite("phi_factor", s.phi_factor) < 1.0:
         raise CalcInputError("phi_factor", s.phi_factor, "must be at least 1")
     for beta, tp in s.peak_temperatures or ():
@@ -172,8 +179,7 @@ def _mtsr(c: _Ctx) -> None:
         c.parameters["accumulation_at_max_mtsr"] = float(series.accumulation[i])
         c.parameters["max_accumulation"] = series.max_accumulation
     elif s.max_accumulation is not None:
-        out["mtsr_k"] = tp + s.max_accumulation * dt
-        c.methods["mtsr"] = "mtsr.semi_batch.max_accumulation"
+        _mtsr_from_entered_accumulation(c, tp, dt)
     else:
         out["mtsr_k"] = tp + dt
         c.methods["mtsr"] = "mtsr.semi_batch.worst_case_no_accumulation_data"
@@ -236,6 +242,9 @@ def _td24(c: _Ctx) -> None:
         c.warn(NO_DECOMPOSITION)
         return
     c.methods["td24"] = method
+    c.lowest_measured_k = {"td24.kinetic": tref,
+                           "td24.kinetic_kissinger": min((p[1] for p in peaks), default=None)
+                           }.get(method, s.onset_temperature_k)
     if cp is None:
         c.q_model = None
         c.warn("no specific heat capacity: TD24 unknown, no class can be assigned")
@@ -260,6 +269,9 @@ def _tmr_and_class(c: _Ctx) -> None:
                 c.warn(f"B = {b:.3g} < 10 at MTSR: the zero-order TMRad is strongly "
                        "conservative")
     out["criticality_class"] = crit.criticality_class(tp, mtsr, out.get("mtt_k"), td)
+    if out.get("mtt_at_ambient_pressure_k") is not None:
+        out["criticality_class_at_ambient_pressure"] = crit.criticality_class(
+            tp, mtsr, out["mtt_at_ambient_pressure_k"], td)
     if out["criticality_class"] is not None:
         c.methods["criticality_class"] = "criticality.stoessel"
         c.ref("stoessel1993", "stoessel2008")

@@ -53,9 +53,12 @@ def _mtt(c: _Ctx) -> None:
         if c.antoine is None:
             c.warn("no solvent vapour-pressure data: MTT (boiling point) unknown")
             return
-        t = antoine_boiling_point(_pressure(c, "operating_pressure_pa"), c.antoine)
+        p_op = _pressure(c, "operating_pressure_pa")
+        t = antoine_boiling_point(p_op, c.antoine)
         c.out["mtt_k"], c.methods["mtt"] = t, f"mtt.boiling_point.{src}"
         c.warn(extrapolation_warning(t, c.antoine))
+        if p_op < c.cfg.ambient_pressure_pa:
+            _vacuum(c, p_op, t)
         return
     p_set, kind = s.vessel_relief_set_pressure_pa, "relief"
     if p_set is None and s.vessel_design_pressure_pa is not None:
@@ -63,6 +66,9 @@ def _mtt(c: _Ctx) -> None:
         c.warn("no relief set pressure: the design pressure is used as the closed-vessel limit")
     if p_set is None:
         c.warn("no relief set or design pressure: MTT of the closed vessel unknown")
+        return
+    if c.antoine is None and not s.non_volatile_declared:
+        c.warn(NO_VAPOUR_CLOSED)
         return
     model = _closed_model(c)
     if model is None:
@@ -80,11 +86,37 @@ def _mtt(c: _Ctx) -> None:
     c.ref("stoessel2008")
 
 
+NO_VAPOUR_CLOSED = (
+    "MTT unknown: the closed vessel has no solvent vapour-pressure data (missing input: the "
+    "solvent, by CAS number or Antoine constants, or a recorded declaration that the reaction "
+    "mass is non-volatile); pad gas alone would put MTT far above any liquid's boiling point, "
+    "so no class is assigned"
+)
+
+
+def _vacuum(c: _Ctx, p_op: float, t: float) -> None:
+    """Below ambient pressure the boiling barrier lasts only while vacuum and condenser do."""
+    p_amb = c.cfg.ambient_pressure_pa
+    t_amb = antoine_boiling_point(p_amb, c.antoine)
+    c.out["mtt_at_ambient_pressure_k"] = t_amb
+    c.parameters["ambient_pressure_pa"] = p_amb
+    c.warn(f"operating under vacuum ({p_op / 1e5:.3g} bar absolute): MTT is the boiling point "
+           f"at that pressure ({t - 273.15:.1f} °C), a barrier only while the vacuum and the "
+           "condenser survive the cooling failure; if the vacuum is lost the mass boils at "
+           f"{t_amb - 273.15:.1f} °C (1 atm), and the class at 1 atm is given beside the class")
+    c.warn(extrapolation_warning(t_amb, c.antoine))
+
+
 def _closed_model(c: _Ctx):
     """(P_vap(T) callable, pad pressure at T_p, gas amount) of the closed vessel, or None."""
     s = c.s
     if c.antoine is None:
-        c.warn("no solvent vapour-pressure data: closed-vessel pressure counts pad gas only")
+        if not s.non_volatile_declared:
+            return None  # pad gas alone would understate the pressure: unknown, not low
+        c.warn("the reaction mass is declared non-volatile (recorded declaration): the "
+               "closed-vessel pressure counts pad gas and released gas only")
+        c.parameters["vapour_pressure_source"] = "none: reaction mass declared non-volatile"
+
         def pvap(t: float) -> float:
             return 0.0
     else:

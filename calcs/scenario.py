@@ -14,11 +14,15 @@ indicator          methods, best first
 =================  ==============================================================
 ΔT_ad              Q′ entered / Q′ from the series, divided by c_p
 MTSR               batch: T_p + ΔT_ad; semi-batch: series MTSR(t) with m(t)
-                   ("mtsr.semi_batch.series"), else T_p + X_ac,max·ΔT_ad, else
-                   the batch worst case
+                   ("mtsr.semi_batch.series"), else T_p + X_eff·ΔT_ad with the
+                   entered X_ac,max on the mass present (initial charge given), else
+                   T_p + X_ac,max·ΔT_ad (final mass, warned), else the batch worst
+                   case; ΔT_ad ≥ 0 (endothermic: 0, said)
 MTT                override; open: boiling point at the operating pressure
-                   (entered Antoine set, then chemicals by CAS); closed: P(T) =
-                   P_set (vapour + pad + released gas)
+                   (entered Antoine set, then chemicals by CAS; under vacuum also
+                   the class at 1 atm); closed: P(T) = P_set (vapour + pad +
+                   released gas; unknown without vapour data unless the mass is
+                   declared non-volatile)
 TD24               kinetic (E_a, T_ref, q_ref); Kissinger fit of peaks + energy;
                    φ-corrected adiabatic onset (Fisher-Goetz, q from the
                    detection threshold); DSC-onset screening estimate
@@ -97,6 +101,10 @@ class StepInputs:
     heat_release_rate_at_reference_w_per_kg: float | None = None
     phi_factor: float | None = None
     peak_temperatures: tuple[tuple[float, float], ...] | None = None  # (β [K/s], T_p [K])
+    # an explicit, recorded declaration that the reaction mass is non-volatile: a closed
+    # vessel then counts pad and released gas only (without it, no vapour data = MTT unknown)
+    non_volatile_declared: bool = False
+    initial_mass_fraction: float | None = None  # m_0/m_final of a semi-batch step, (0, 1]
 
 
 _SEVERITY = {"3-level": SEVERITY_3, "4-level": SEVERITY_4}
@@ -124,6 +132,9 @@ class AssessmentSettings:
     end_of_reaction_fraction: float = 0.01
     ambient_pressure_pa: float = ATM
     minimum_cooling_margin: float = 1.3
+    # how far below the lowest measured temperature TD24/TMRad may be extrapolated before a
+    # warning (common practice, no source)
+    max_extrapolation_k: float = 50.0
 
     def severity(self) -> Scale:
         """The severity :class:`Scale` selected."""
@@ -144,6 +155,8 @@ class Assessment:
     mtsr_k: float | None = None
     mtsr_time_s: float | None = None
     mtt_k: float | None = None
+    mtt_at_ambient_pressure_k: float | None = None  # under vacuum: MTT and class at 1 atm
+    criticality_class_at_ambient_pressure: int | None = None
     td24_k: float | None = None
     tmr_ad_at_mtsr_s: float | None = None
     criticality_class: int | None = None

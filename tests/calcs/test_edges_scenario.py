@@ -135,3 +135,125 @@ def test_a_record_that_stops_before_the_feed_ends_does_not_get_the_whole_feed_ma
     assert a.mass_kg.tolist() == pytest.approx([0.4, 0.43, 0.46])
     assert a.max_mtsr_k - 303.15 == pytest.approx(0.3 * 1200 / (0.43 * 2000), rel=1e-12)
     assert any("ends at a dosed fraction of 0.6" in w for w in a.warnings)
+
+
+# ---- item 1: closed vessel without vapour-pressure data ----------------------------------
+
+
+def closed(**extra):
+    fields = dict(vessel_relief_set_pressure_pa=4e5, vessel_headspace_m3=1.0,
+                  specific_reaction_heat_j_per_kg=100e3, **kinetics_with_td24(150))
+    fields.update(extra)
+    return StepInputs("batch", 303.15, 1000.0, CP, "closed", 101325.0, None, **fields)
+
+
+def test_a_closed_vessel_without_vapour_pressure_data_has_no_mtt_and_no_class():
+    # METHODS.md §5.1: P(T) = P_vap(T) + p_pad·T/T_0 + n·R·T/V; without P_vap the sum is the
+    # pad gas alone, whose MTT (T_0·P_set/p_pad = 1197 K here) lies far above any liquid's
+    # boiling point: not an MTT. It is unknown, and the step names the missing input.
+    a = assess_step(closed())
+    assert a.mtt_k is None and a.criticality_class is None
+    assert "mtt" not in a.methods
+    assert any(w.startswith("MTT unknown: the closed vessel has no solvent vapour-pressure "
+                            "data") and "non-volatile" in w for w in a.warnings)
+    assert a.end_pressure_pa is None
+
+
+def test_a_recorded_non_volatile_declaration_counts_pad_gas_only():
+    # Gay-Lussac (ideal gas at constant volume, p/T constant; common textbook law):
+    # MTT = T_0·P_set/p_pad = 303.15 K · 4e5/101325 (no gas released)
+    a = assess_step(closed(non_volatile_declared=True))
+    assert a.mtt_k == pytest.approx(303.15 * 4e5 / 101325.0, rel=1e-9)
+    assert a.methods["mtt"] == "mtt.closed_vessel_relief"
+    assert a.parameters["vapour_pressure_source"] == "none: reaction mass declared non-volatile"
+    assert any("declared non-volatile" in w for w in a.warnings)
+    assert a.criticality_class is not None
+
+
+# ---- item 6: vacuum ------------------------------------------------------------------------
+
+
+def test_under_vacuum_mtt_is_the_boiling_point_there_and_the_class_at_1_atm_is_given():
+    # CoolProp 8.0.0 PropsSI("T", "P", P, "Q", 0, "Toluene") (METHODS.md §5.2 library):
+    # 322.59 K (49.44 °C) at 0.12 bar; 383.75 K (110.60 °C) at 1 atm (C5.1: 110.596 °C).
+    from CoolProp.CoolProp import PropsSI
+
+    t_vac = PropsSI("T", "P", 12e3, "Q", 0, "Toluene")
+    t_atm = PropsSI("T", "P", 101325.0, "Q", 0, "Toluene")
+    s = StepInputs("batch", 303.15, 1000.0, CP, "open", 12e3, None, solvent_cas=TOLUENE,
+                   specific_reaction_heat_j_per_kg=100e3, **kinetics_with_td24(150))
+    a = assess_step(s)  # MTSR 80 °C, TD24 150 °C
+    assert a.mtt_k == pytest.approx(t_vac, abs=0.2)  # ±0.2 K as METHODS.md C5.1 suggests
+    assert a.criticality_class == 3  # MTT 49 °C < MTSR 80 °C < TD24
+    assert a.mtt_at_ambient_pressure_k == pytest.approx(t_atm, abs=0.2)
+    assert a.criticality_class_at_ambient_pressure == 1  # MTSR < MTT(1 atm) < TD24
+    assert any("vacuum" in w and "condenser" in w for w in a.warnings)
+    plain = assess_step(dataclasses.replace(s, operating_pressure_pa=101325.0))
+    assert plain.mtt_at_ambient_pressure_k is None
+    assert not any("vacuum" in w for w in plain.warnings)
+
+
+# ---- item 2: semi-batch with an entered maximum accumulation ------------------------------
+
+
+def semi(**extra):
+    fields = dict(specific_reaction_heat_j_per_kg=120e3, max_accumulation=0.166254,
+                  mtt_override_k=383.15)
+    fields.update(extra)
+    return StepInputs("semi_batch", 303.15, 1000.0, CP, "open", None, 3600.0, **fields)
+
+
+def test_an_entered_accumulation_is_used_on_the_mass_present():
+    # METHODS.md C1.7 [COMPUTED]: X_ac(t_d) = 0.166254 for k·t_d = 6, m_0/m_f = 0.8; the true
+    # maximum of MTSR(t) is 40.584 °C at 33.44 min (39.975 °C on the final-mass basis)
+    a = assess_step(semi(initial_mass_fraction=0.8))
+    assert a.methods["mtsr"] == "mtsr.semi_batch.max_accumulation_mass_basis"
+    assert a.mtsr_k - K == pytest.approx(40.584, abs=1e-3)
+    assert a.mtsr_time_s / 60 == pytest.approx(33.44, abs=0.01)
+
+
+def test_without_the_initial_charge_the_basis_is_said_and_warned():
+    # METHODS.md §1.1 note: the final-mass basis underestimates MTSR before the end of feed
+    a = assess_step(semi())
+    assert a.methods["mtsr"] == "mtsr.semi_batch.max_accumulation"
+    assert a.mtsr_k - K == pytest.approx(39.975, abs=1e-3)
+    assert a.parameters["accumulation_mass_basis"] == "final mass"
+    assert any("final mass" in w and "initial charge" in w for w in a.warnings)
+
+
+# ---- item 7: extrapolation ------------------------------------------------------------------
+
+
+def test_td24_from_a_dsc_onset_reports_its_extrapolation_and_warns_past_the_limit():
+    # METHODS.md §12.4: "state the extrapolation distance (lowest temperature at which the
+    # decomposition was measured minus TD24)"; limit 50 K: common practice, no source.
+    # METHODS.md C3.3 [COMPUTED]: onset 200 °C, c_p 1800, E_a 50 kJ/mol, 20 W/kg -> 91.77 °C
+    a = assess_step(StepInputs("batch", 303.15, 1000.0, 1800.0, "open", None, None,
+                               mtt_override_k=383.15, specific_reaction_heat_j_per_kg=100e3,
+                               onset_temperature_k=473.15, decomposition_method="dsc"))
+    assert a.td24_k - K == pytest.approx(91.77, abs=0.05)
+    assert a.parameters["lowest_measured_temperature_k"] == 473.15
+    assert a.parameters["td24_extrapolation_k"] == pytest.approx(200 - 91.77, abs=0.05)
+    # MTSR = 30 °C + 100 kJ/kg / 1.8 kJ/(kg K) = 85.56 °C
+    assert a.parameters["tmr_extrapolation_k"] == pytest.approx(473.15 - (303.15 + 100e3 / 1800))
+    assert any(w.startswith("TD24 extrapolates 108 K below the lowest measured temperature")
+               for w in a.warnings)
+
+
+def test_kissinger_extrapolation_starts_at_the_lowest_peak():
+    # METHODS.md C3.4 peaks (lowest 421.5638 K at 1 K/min)
+    peaks = tuple((b / 60, t) for b, t in zip((1, 2, 5, 10, 20), (421.5638, 429.7805, 441.1322,
+                                                                  450.1136, 459.4571),
+                                              strict=True))
+    a = assess_step(batch(peak_temperatures=peaks, decomposition_energy_j_per_kg=500e3,
+                          activation_energy_j_per_mol=None, reference_temperature_k=None,
+                          heat_release_rate_at_reference_w_per_kg=None))
+    assert a.parameters["lowest_measured_temperature_k"] == 421.5638
+    assert a.parameters["td24_extrapolation_k"] == pytest.approx(421.5638 - a.td24_k)
+
+
+def test_no_extrapolation_warning_within_the_limit():
+    # kinetics measured at TD24 itself (T_ref = TD24): no extrapolation
+    a = assess_step(batch())
+    assert a.parameters["td24_extrapolation_k"] == pytest.approx(0.0, abs=1e-9)
+    assert not any(w.startswith("TD24 extrapolates") for w in a.warnings)
