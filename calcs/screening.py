@@ -32,7 +32,7 @@ SCREENING_HEAT_RELEASE_RATE_W_PER_KG = 20.0
 ONSET_RULE_CRITICISM = (
     "fixed-margin onset rules are criticised: the detected onset depends on sensitivity, "
     "sample mass, heating rate and phi, and a fixed margin ignores E_a, c_p, scale and hold "
-    "time (Hofelich & Thomas 1989, from memory; J. Loss Prev. Process Ind. 15 (2002) 163)"
+    "time (Hofelich & Thomas 1989; J. Loss Prev. Process Ind. 15 (2002) 163)"
 )
 
 

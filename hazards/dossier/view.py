@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import datetime as dt
 import math
+import re
 
 from calcs.constants import T_ZERO_C
 
@@ -236,13 +237,23 @@ def _source(kind: str, prov: dict, inputs: dict) -> str:
     return "—"
 
 
+# Snapshots computed before the labels cited their chapters say how a citation was looked up
+# ("Stoessel 2008, from memory"); a signed dossier prints the citation only.
+_LOOKED_UP = re.compile(r"[,;]?\s*(?:bibliographic\s+)?(?:details\s+)?from memory", re.I)
+
+
+def cited(text: str) -> str:
+    """The text with any note on how its citation was looked up taken out."""
+    return re.sub(r"\s*\(\s*\)", "", _LOOKED_UP.sub("", text)).replace(" )", ")")
+
+
 def parameter_row(key: str, value) -> dict:
     """A parameter a method assumed, with a label and unit a reader knows; the key for tracing."""
     label, conv = PARAMETERS.get(key, (key, None))
     if isinstance(value, (int, float)) and not isinstance(value, bool):
         shown, unit = _show(value, conv) if conv else (_number(value), "")
     else:
-        shown, unit = str(value), ""
+        shown, unit = cited(str(value)), ""
     return {"key": key, "label": label, "value": shown, "unit": unit}
 
 
@@ -270,7 +281,7 @@ def _step(step: dict, context: dict) -> dict:
         if key == "td24_k" and params.get("td24_label"):
             label = f"{label} ({params['td24_label']})"
         indicator_rows.append({"label": label, "value": value, "unit": unit,
-                               "method": method_label(m) if m else "—",
+                               "method": cited(method_label(m)) if m else "—",
                                "method_key": m or ""})
     ser = context.get("series", {}).get(inputs.get("series_sha256") or "")
     td24_low = values.get("td24_below_process_temperature")
@@ -322,7 +333,8 @@ def dossier_view(content: dict, meta) -> dict:
         "software_text": ", ".join(f"{name} {version}" for name, version
                                    in (context.get("software") or {}).items()),
         "revalidation": context.get("revalidation"),
-        "references": sorted(context.get("references", {}).items()),
+        "references": sorted((key, cited(text))
+                             for key, text in context.get("references", {}).items()),
         "steps": steps,
         "record_date_text": when(context.get("record_date")),
         "issued_text": when(meta.created_at),
