@@ -15,7 +15,9 @@ from django.conf import settings
 from rest_framework import parsers
 from rest_framework.parsers import get_encoding
 
-from hazards.api.errors import ProblemError
+# The module, not its names: hazards.api.errors imports DRF's views, whose APIView reads
+# this parser set from the settings while errors is still being imported.
+from hazards.api import errors
 
 # Deeper than any document of this API; json's C decoder recurses per level.
 MAX_DEPTH = 64
@@ -51,7 +53,7 @@ def refuse_unstorable_text(data, field: str = "") -> None:
         )
         if rule is not None:
             where = f"field '{field}'" if field else "body"
-            raise ProblemError(
+            raise errors.ProblemError(
                 "parse_error",
                 f"The {where} breaks a rule of stored text: {rule}.",
                 errors=[
@@ -76,7 +78,7 @@ def _refuse_oversized(parser_context) -> None:
     request = (parser_context or {}).get("request")
     length = request.META.get("CONTENT_LENGTH") if request is not None else None
     if length and length.isdigit() and int(length) > settings.DATA_UPLOAD_MAX_MEMORY_SIZE:
-        raise ProblemError(
+        raise errors.ProblemError(
             "payload_too_large",
             f"The body is larger than {settings.DATA_UPLOAD_MAX_MEMORY_SIZE} bytes.",
         )
@@ -89,7 +91,7 @@ class LimitedJSONParser(parsers.JSONParser):
         _refuse_oversized(parser_context)
         raw = stream.read(settings.DATA_UPLOAD_MAX_MEMORY_SIZE + 1) if stream else b""
         if len(raw) > settings.DATA_UPLOAD_MAX_MEMORY_SIZE:
-            raise ProblemError(
+            raise errors.ProblemError(
                 "payload_too_large",
                 f"The body is larger than {settings.DATA_UPLOAD_MAX_MEMORY_SIZE} bytes.",
             )
@@ -97,15 +99,15 @@ class LimitedJSONParser(parsers.JSONParser):
         try:
             text = raw.decode(encoding)
         except UnicodeDecodeError:
-            raise ProblemError("parse_error", f"The body is not valid {encoding} text.") from None
+            raise errors.ProblemError("parse_error", f"The body is not valid {encoding} text.") from None
         if not _depth_ok(text):
-            raise ProblemError(
+            raise errors.ProblemError(
                 "parse_error", f"The JSON is nested more than {MAX_DEPTH} levels deep."
             )
         try:
             data = super().parse(io.BytesIO(raw), media_type, parser_context)
         except RecursionError:  # a second guard: never a 500
-            raise ProblemError("parse_error", "The JSON is nested too deeply.") from None
+            raise errors.ProblemError("parse_error", "The JSON is nested too deeply.") from None
         refuse_unstorable_text(data)
         return data
 
