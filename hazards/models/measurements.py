@@ -30,6 +30,8 @@ class CalorimetryRun(InputModel):
 
     class Meta:
         ordering = ["step_id", "-run_date", "-id"]
+        # Keyset pages of the API orderings (`?ordering=`) and the lists read these.
+        indexes = [models.Index(fields=["run_date", "id"], name="run_date_idx")]
         constraints = [
             models.CheckConstraint(
                 condition=Q(specific_reaction_heat_j_per_kg__gte=0),
@@ -90,6 +92,8 @@ class DecompositionTest(InputModel):
 
     class Meta:
         ordering = ["step_id", "-test_date", "-id"]
+        # Keyset pages of the API orderings (`?ordering=`) and the lists read these.
+        indexes = [models.Index(fields=["test_date", "id"], name="test_date_idx")]
         constraints = [
             models.CheckConstraint(
                 condition=Q(onset_temperature_k__gt=0), name="decomposition_onset_absolute"

@@ -20,6 +20,8 @@ class Site(InputModel):
 
     class Meta:
         ordering = ["code"]
+        # Keyset pages of the API orderings (`?ordering=`) and the lists read these.
+        indexes = [models.Index(fields=["name", "id"], name="site_name_idx")]
 
     def __str__(self) -> str:
         return f"{self.code} {self.name}"
@@ -40,6 +42,9 @@ class Process(InputModel):
 
     class Meta:
         ordering = ["site__code", "name"]
+        # Keyset pages of the API orderings (`?ordering=`) and the lists read these.
+        indexes = [models.Index(fields=["name", "id"], name="process_name_idx"),
+                   models.Index(fields=["updated_at", "id"], name="process_updated_idx")]
         constraints = [
             models.UniqueConstraint(fields=["site", "name"], name="process_name_unique_per_site"),
         ]
@@ -84,6 +89,9 @@ class ReactionStep(InputModel):
 
     class Meta:
         ordering = ["process_id", "sequence"]
+        # Keyset pages of the API orderings (`?ordering=`) and the lists read these.
+        indexes = [models.Index(fields=["name", "id"], name="step_name_idx"),
+                   models.Index(fields=["updated_at", "id"], name="step_updated_idx")]
         constraints = [
             models.UniqueConstraint(
                 fields=["process", "sequence"], name="step_sequence_unique_per_process"

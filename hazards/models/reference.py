@@ -81,6 +81,8 @@ class Solvent(InputModel):
 
     class Meta:
         ordering = ["name"]
+        # Keyset pages of the API orderings (`?ordering=`) and the lists read these.
+        indexes = [models.Index(fields=["name", "id"], name="solvent_name_idx")]
         constraints = [
             models.CheckConstraint(
                 condition=~Q(vapour_pressure_source="antoine")
@@ -123,6 +125,8 @@ class Vessel(InputModel):
 
     class Meta:
         ordering = ["tag"]
+        # Keyset pages of the API orderings (`?ordering=`) and the lists read these.
+        indexes = [models.Index(fields=["name", "id"], name="vessel_name_idx")]
         constraints = [
             models.CheckConstraint(condition=Q(volume_m3__gt=0), name="vessel_volume_positive"),
             models.CheckConstraint(

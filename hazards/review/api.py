@@ -14,9 +14,10 @@ from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from hazards.access import PROCESS_PATHS, REFERENCE_MODELS, change_reason, visible
+from hazards.api.pagination import KeyedHistoryPagination
 from hazards.models import Process
 from hazards.review import errors as E
-from hazards.review import selectors
+from hazards.review import history, selectors
 from hazards.review import serializers as s
 from hazards.review.models import Finding, ProcessRevision, ProcessRole, Signature
 from hazards.review.services import findings as finding_services
@@ -144,10 +145,11 @@ class RevisionViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveModelM
         older, newer = sorted([other, revision], key=lambda r: r.number)
         return Response(selectors.revision_diff(older, newer))
 
-    @extend_schema(responses=s.HistoryRowSerializer(many=True))
-    @action(detail=True, methods=["get"])
+    @extend_schema(parameters=KeyedHistoryPagination().schema_parameters(),
+                   responses=s.HistoryPageSerializer, filters=False)
+    @action(detail=True, methods=["get"], filter_backends=[], pagination_class=None)
     def history(self, request, pk=None):
-        return Response(selectors.record_history(self.get_object()))
+        return history_response(request, history.record_sources(self.get_object()))
 
 
 class SignatureViewSet(ReviewErrors, viewsets.ReadOnlyModelViewSet):
@@ -215,12 +217,22 @@ class ProcessRoleViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveMod
         role_services.role_revoke(grant=instance, revoked_by=self.request.user, reason=reason)
 
 
-class ProcessHistoryView(ReviewErrors, APIView):
-    """Every change to a process and its records: who, when, which field, from, to, why."""
+def history_response(request, sources):
+    """One page of a history, read in SQL, newest first."""
+    return KeyedHistoryPagination().respond(
+        request, lambda **kw: history.history_page(sources, **kw),
+        lambda rows: s.HistoryRowSerializer(rows, many=True).data, history.BadHistoryKey)
 
-    @extend_schema(responses=s.HistoryRowSerializer(many=True))
+
+class ProcessHistoryView(ReviewErrors, APIView):
+    """Every change to a process and its records, newest first: who, when, which field,
+    from, to, why; a page at a time (`next` leads to older events)."""
+
+    @extend_schema(parameters=KeyedHistoryPagination().schema_parameters(),
+                   responses=s.HistoryPageSerializer)
     def get(self, request, pk):
-        return Response(selectors.process_history(_visible_process(request.user, pk)))
+        return history_response(request,
+                                history.process_sources(_visible_process(request.user, pk)))
 
 
 class ProcessDiffView(ReviewErrors, APIView):
@@ -245,12 +257,14 @@ class ProcessDiffView(ReviewErrors, APIView):
 
 
 class RecordHistoryView(ReviewErrors, APIView):
-    """The audit history of one record, e.g. /history/hazards.reactionstep/12/."""
+    """The audit history of one record, e.g. /history/hazards.reactionstep/12/, newest
+    first, a page at a time."""
 
-    @extend_schema(responses=s.HistoryRowSerializer(many=True))
+    @extend_schema(parameters=KeyedHistoryPagination().schema_parameters(),
+                   responses=s.HistoryPageSerializer)
     def get(self, request, label, pk):
         if label not in PROCESS_PATHS and label not in REFERENCE_MODELS:
             raise NotFound("No history is kept for this kind of record.")
         model = apps.get_model(label)
         obj = get_object_or_404(visible(request.user, model._base_manager.all()), pk=pk)
-        return Response(selectors.record_history(obj))
+        return history_response(request, history.record_sources(obj))

@@ -139,6 +139,16 @@ class HistoryRowSerializer(serializers.Serializer):
     changes = serializers.DictField(help_text="field -> {from, to}")
 
 
+class HistoryPageSerializer(serializers.Serializer):
+    """One page of a history, newest first (the page shape of every list)."""
+
+    count = serializers.IntegerField(
+        allow_null=True, help_text="Exact number of events up to 1000; null when there are more.")
+    next = serializers.URLField(allow_null=True, help_text="The page of older events.")
+    previous = serializers.URLField(allow_null=True, help_text="The page of newer events.")
+    results = HistoryRowSerializer(many=True)
+
+
 class DiffRowSerializer(serializers.Serializer):
     path = serializers.CharField()
     change = serializers.ChoiceField(choices=["added", "removed", "changed"])

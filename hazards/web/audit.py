@@ -8,7 +8,6 @@ from django.apps import apps
 from django.contrib import messages
 from django.contrib.auth.decorators import login_required
 from django.core.exceptions import PermissionDenied
-from django.core.paginator import Paginator
 from django.http import Http404, HttpResponse
 from django.shortcuts import get_object_or_404, redirect, render
 from django.views.decorators.http import require_POST
@@ -16,11 +15,12 @@ from django.views.decorators.http import require_POST
 from hazards.access import PROCESS_PATHS, REFERENCE_MODELS, is_administrator, processes_of, visible
 from hazards.fieldkinds import kinds_for
 from hazards.models import Process
+from hazards.review import history
 from hazards.review.models import Role
-from hazards.review.selectors import process_history, record_history
 from hazards.web import display
 from hazards.web.common import visible_or_404
 from hazards.web.forms import LABELS
+from hazards.web.paging import ListPage, link
 
 ONLY_AUDITORS = "Only auditors and administrators run the integrity check."
 
@@ -51,14 +51,24 @@ def _plain(value):
     return text if len(text) <= 120 else text[:117] + "…"
 
 
+def _history_page(request, sources) -> ListPage:
+    """A page of a history read in SQL, newest first; `?before=` older, `?after=` newer."""
+    try:
+        page = history.history_page(sources, before=request.GET.get("before") or None,
+                                    after=request.GET.get("after") or None)
+    except history.BadHistoryKey:  # a stale or foreign link: the newest page
+        page = history.history_page(sources)
+    return ListPage(page.rows, page.count,
+                    link(request, before=page.older) if page.older else None,
+                    link(request, after=page.newer) if page.newer else None)
+
+
 @login_required
 def process_history_page(request, pk):
     process = visible_or_404(request.user, Process.objects.select_related("site"), pk=pk)
-    rows = process_history(process)
-    rows.reverse()  # newest first
-    page = Paginator(rows, 50).get_page(request.GET.get("page"))
+    page = _history_page(request, history.process_sources(process))
     return render(request, "hazards/history.html", {
-        "process": process, "page": page, "rows": _rows_for_people(page.object_list),
+        "process": process, "page": page, "rows": _rows_for_people(page.rows),
         "title": f"History of {process.name}",
     })
 
@@ -69,11 +79,9 @@ def record_history_page(request, label, pk):
         raise Http404
     model = apps.get_model(label)
     obj = get_object_or_404(visible(request.user, model._base_manager.all()), pk=pk)
-    rows = record_history(obj)
-    rows.reverse()
-    page = Paginator(rows, 50).get_page(request.GET.get("page"))
+    page = _history_page(request, history.record_sources(obj))
     return render(request, "hazards/history.html", {
-        "page": page, "rows": _rows_for_people(page.object_list), "object": obj,
+        "page": page, "rows": _rows_for_people(page.rows), "object": obj,
         "title": f"History of {model._meta.verbose_name} {obj}",
     })
 

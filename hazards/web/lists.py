@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 from django.contrib.auth.decorators import login_required
-from django.core.paginator import Paginator
 from django.db.models import F
 from django.shortcuts import render
 
@@ -12,6 +11,7 @@ from hazards.models.process import OperationMode
 from hazards.review.models import ReviewState
 from hazards.web import selectors
 from hazards.web.display import CLASS_TEXT, STATE_TEXT
+from hazards.web.paging import keyset_page
 
 PAGE_SIZE = 20
 
@@ -34,8 +34,7 @@ STEP_SORTS = {
 
 
 def _page(request, queryset):
-    paginator = Paginator(queryset, PAGE_SIZE)
-    return paginator.get_page(request.GET.get("page"))
+    return keyset_page(request, queryset, PAGE_SIZE)
 
 
 def _choice(value, allowed, default=""):
@@ -79,10 +78,9 @@ def step_list(request):
         "sort": _choice(g.get("sort", ""), STEP_SORTS, "process"),
     }
     qs = selectors.search(qs, filters["q"], "name", "process__name")
-    if filters["klass"] == "none":
-        qs = qs.filter(klass__isnull=True)
-    elif filters["klass"]:
-        qs = qs.filter(klass=int(filters["klass"]))
+    if filters["klass"]:
+        qs = qs.filter(selectors.in_class(
+            None if filters["klass"] == "none" else int(filters["klass"])))
     if filters["mode"]:
         qs = qs.filter(operation_mode=filters["mode"])
     if filters["needs_review"]:

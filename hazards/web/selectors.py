@@ -4,7 +4,9 @@ from __future__ import annotations
 
 import datetime as dt
 
-from django.db.models import Exists, OuterRef, Q, Subquery
+from django.db import connection
+from django.db.models import Count, Exists, F, FilteredRelation, Max, OuterRef, Q, Subquery
+from django.db.models.functions import Coalesce
 
 from hazards.access import processes_of, visible
 from hazards.models import IndicatorSnapshot, Process, ReactionStep
@@ -19,15 +21,27 @@ from hazards.review.models import (
 )
 
 
-def current_snapshot_subquery(field: str):
-    return Subquery(IndicatorSnapshot.objects.filter(step=OuterRef("pk"), is_current=True)
-                    .values(field)[:1])
+def with_current_class(queryset):
+    """Steps with `klass`, their current class, read by a join on the current-snapshot index
+    (one unique row per step), not a subquery per row."""
+    return queryset.annotate(
+        current=FilteredRelation("snapshots", condition=Q(snapshots__is_current=True)),
+        klass=F("current__criticality_class"),
+    )
 
 
 def steps_with_class(user):
-    return visible(user, ReactionStep.objects.select_related("process", "process__site")).annotate(
-        klass=current_snapshot_subquery("criticality_class"),
-    )
+    return with_current_class(
+        visible(user, ReactionStep.objects.select_related("process", "process__site")))
+
+
+def in_class(klass: int | None) -> Q:
+    """Steps whose current class is `klass` (None: not assigned), as a semi-join on the
+    current-snapshot class index."""
+    current = IndicatorSnapshot.objects.filter(step=OuterRef("pk"), is_current=True)
+    if klass is None:
+        return ~Exists(current.filter(criticality_class__isnull=False))
+    return Q(Exists(current.filter(criticality_class=klass)))
 
 
 def review_state_subquery():
@@ -35,8 +49,6 @@ def review_state_subquery():
     newest_open = ProcessRevision.objects.filter(
         process=OuterRef("pk"), state__in=[s.value for s in OPEN_STATES]).order_by("-number")
     newest = ProcessRevision.objects.filter(process=OuterRef("pk")).order_by("-number")
-    from django.db.models.functions import Coalesce
-
     return Coalesce(Subquery(newest_open.values("state")[:1]),
                     Subquery(newest.values("state")[:1]))
 
@@ -68,21 +80,26 @@ def waiting_for(user) -> dict:
 
 
 def class_counts(user) -> list[dict]:
-    """Steps per class, and processes per the highest class among their steps."""
-    from collections import Counter
-
-    steps = steps_with_class(user)
-    per_step = Counter(steps.values_list("klass", flat=True))
-    highest: dict[int, int | None] = {}
-    for pid, klass in steps.values_list("process_id", "klass"):
-        if klass is not None and (highest.get(pid) is None or klass > highest[pid]):
-            highest[pid] = klass
-        else:
-            highest.setdefault(pid, None)
-    per_process = Counter(highest.values())
+    """Steps per class, and processes per the highest class among their steps: two grouped
+    queries over the current snapshots, whatever the number of steps."""
+    current = IndicatorSnapshot.objects.filter(is_current=True)
+    steps = visible(user, current)
+    per_step = dict(steps.values_list("criticality_class").annotate(n=Count("id"))
+                    .order_by())
+    worst = (steps.values("step__process_id").annotate(worst=Max("criticality_class"))
+             .order_by())
+    per_process = _count_by(worst)
     return [{"klass": value, "count": per_step.get(value, 0),
              "processes": per_process.get(value, 0), "param": value or "none"}
             for value in (5, 4, 3, 2, 1, None)]
+
+
+def _count_by(worst) -> dict:
+    """Processes per highest class, counted in SQL over the grouped subquery."""
+    sql, params = worst.query.sql_with_params()
+    with connection.cursor() as cursor:
+        cursor.execute(f"SELECT w.worst, count(*) FROM ({sql}) w GROUP BY w.worst", params)
+        return dict(cursor.fetchall())
 
 
 def stale_approvals(user):
