@@ -1,0 +1,119 @@
+"""The start page and the step list read classes with grouped queries and joins: their query
+count does not grow with the number of steps, the class column is a join (no subquery per
+row), the class filter a semi-join on the current-snapshot index."""
+
+from __future__ import annotations
+
+from collections import Counter
+
+import pytest
+from django.db import connection, transaction
+
+from hazards.models import IndicatorSnapshot, ReactionStep
+from hazards.review.models import ProcessRole
+from hazards.web import selectors
+from tests.factories import ProcessFactory, StepFactory
+
+pytestmark = pytest.mark.django_db
+
+
+def _more_processes(people, n, steps_each=2):
+    for _ in range(n):
+        process = ProcessFactory()
+        ProcessRole.objects.create(process=process, user=people["reviewer"], role="reviewer")
+        for i in range(1, steps_each + 1):
+            StepFactory(process=process, sequence=i)
+
+
+def _reference_counts(user):
+    """The counts the way the page used to make them: every step's class, in Python."""
+    steps = {s.pk: s.process_id for s in selectors.visible(user, ReactionStep.objects.all())}
+    klass = dict(
+        IndicatorSnapshot.objects.filter(step_id__in=steps, is_current=True).values_list(
+            "step_id", "criticality_class"
+        )
+    )
+    per_step = Counter(klass.get(pk) for pk in steps)
+    worst: dict = {}
+    for pk, pid in steps.items():
+        k = klass.get(pk)
+        if k is not None and (worst.get(pid) is None or k > worst[pid]):
+            worst[pid] = k
+        else:
+            worst.setdefault(pid, None)
+    return per_step, Counter(worst.values())
+
+
+def test_class_counts_are_two_grouped_queries_that_agree_with_counting_in_python(
+    people, process, django_assert_max_num_queries
+):
+    _more_processes(people, 6, steps_each=3)
+    user = people["reviewer"]
+    per_step, per_process = _reference_counts(user)
+    with django_assert_max_num_queries(2):
+        rows = selectors.class_counts(user)
+    assert {r["klass"]: r["count"] for r in rows} == {
+        k: per_step.get(k, 0) for k in (5, 4, 3, 2, 1, None)
+    }
+    assert {r["klass"]: r["processes"] for r in rows} == {
+        k: per_process.get(k, 0) for k in (5, 4, 3, 2, 1, None)
+    }
+    assert sum(r["count"] for r in selectors.class_counts(people["outsider"])) == 0
+
+
+def _page_queries(client, url):
+    from django.test.utils import CaptureQueriesContext
+
+    with CaptureQueriesContext(connection) as ctx:
+        resp = client.get(url)
+    assert resp.status_code == 200
+    return len(ctx.captured_queries)
+
+
+@pytest.mark.parametrize(
+    "url",
+    [
+        "/",
+        "/steps/",
+        "/steps/?sort=-klass",
+        "/steps/?klass=2",
+        "/steps/?sort=-updated",
+        "/processes/?sort=state",
+    ],
+)
+def test_the_start_page_and_lists_cost_the_same_queries_with_more_steps(
+    people, process, client_as, url
+):
+    client = client_as(people["reviewer"])
+    _more_processes(people, 2)
+    small = _page_queries(client, url)
+    _more_processes(people, 10)
+    assert _page_queries(client, url) <= small, url
+
+
+def test_the_class_column_and_sort_are_a_join_not_a_subquery_per_row(people):
+    qs = selectors.steps_with_class(people["reviewer"]).order_by("-klass")
+    sql = str(qs.query)
+    assert 'LEFT OUTER JOIN "hazards_indicatorsnapshot" current' in sql, sql
+    # Only the role check is a nested SELECT (a semi-join on the reviewer's roles).
+    assert sql.count("SELECT") == 2, sql
+
+
+def _plan(qs) -> str:
+    sql, params = qs.query.sql_with_params()
+    with transaction.atomic(), connection.cursor() as cursor:
+        for setting in ("enable_seqscan", "enable_bitmapscan"):
+            cursor.execute(f"SET LOCAL {setting} = off")  # as on a large table
+        cursor.execute("EXPLAIN " + sql, params)
+        return "\n".join(row[0] for row in cursor.fetchall())
+
+
+@pytest.mark.parametrize("klass", [3, None])
+def test_the_class_filter_is_a_semi_join_on_a_current_snapshot_index(people, process, klass):
+    qs = selectors.steps_with_class(
+        people["admin"] if "admin" in people else people["reviewer"]
+    ).filter(selectors.in_class(klass))
+    plan = _plan(qs)
+    assert "Semi Join" in plan or "Anti Join" in plan, plan
+    snapshot_lines = [line for line in plan.splitlines() if "hazards_indicatorsnapshot" in line]
+    assert snapshot_lines and all("Index" in line for line in snapshot_lines), plan
