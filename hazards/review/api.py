@@ -165,13 +165,21 @@ class SignatureViewSet(ReviewErrors, viewsets.ReadOnlyModelViewSet):
 
 class FindingViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveModelMixin,
                      mixins.CreateModelMixin, mixins.UpdateModelMixin, viewsets.GenericViewSet):
-    """Findings with an owner, a due date, a status and a kind; changes need a reason."""
+    """Findings with an owner, a due date, a status and a kind; changes need a reason.
+
+    Segregation of duties: the owner adds notes and moves `status` to `ready_for_check`;
+    only the raiser, or a reviewer or approver of the process who does not own the finding,
+    resolves, withdraws or reopens it or changes its kind, owner or due date; only the raiser
+    corrects the title and description (every version stays in the history). A blocking
+    finding bars endorsement until it is resolved or withdrawn."""
 
     filterset_fields = ["process", "revision", "status", "kind", "owner"]
-    extra_problems = {"update": {409: ["conflict"]}, "partial_update": {409: ["conflict"]}}
+    extra_problems = {"update": {409: ["conflict"]}, "partial_update": {409: ["conflict"]},
+                      "notes": {409: ["conflict"]}}
 
     def get_queryset(self):
-        return visible(self.request.user, Finding.objects.select_related("owner", "raised_by"))
+        return visible(self.request.user, Finding.objects.select_related(
+            "owner", "raised_by").prefetch_related("notes__author"))
 
     def get_serializer_class(self):
         return s.FindingUpdateSerializer if self.action in ("update", "partial_update") \
@@ -190,6 +198,17 @@ class FindingViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveModelMi
             finding=serializer.instance, user=self.request.user, reason=data.pop("reason", ""),
             **data,
         )
+
+    @extend_schema(request=s.FindingNoteSerializer, responses={201: s.FindingNoteSerializer},
+                   summary="Add a progress note (the owner, the raiser, or a reviewer or "
+                           "approver who does not own the finding).")
+    @action(detail=True, methods=["post"])
+    def notes(self, request, pk=None):
+        body = s.FindingNoteSerializer(data=request.data)
+        body.is_valid(raise_exception=True)
+        note = finding_services.finding_note(finding=self.get_object(), user=request.user,
+                                             text=body.validated_data["text"])
+        return Response(s.FindingNoteSerializer(note).data, status=status.HTTP_201_CREATED)
 
 
 class ProcessRoleViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveModelMixin,

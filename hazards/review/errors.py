@@ -10,6 +10,14 @@ CANNOT_SEND_BACK = "Only a reviewer (lodged) or an approver (lodged or checked) 
 CANNOT_RAISE_FINDING = "Only a reviewer or an approver of this process can record findings."
 CANNOT_CHANGE_FINDING = "Only a reviewer or approver of the process, or the finding's owner, can change it."
 OWNER_HAS_NO_ROLE = "The owner of a finding must hold a role on the process."
+ONLY_CHECKER_SETTLES = ("Only the person who raised a finding, or a reviewer or approver of the "
+                        "process who does not own it, can resolve, withdraw, reopen or reshape "
+                        "it; the owner adds notes and marks it ready for check.")
+RAISERS_TEXT = ("The title and description are the words of the person who raised the "
+                "finding; only they can correct them (every version stays in the history). "
+                "Add a note instead.")
+CANNOT_NOTE_FINDING = "Only the finding's owner, its raiser, or a reviewer or approver can add notes."
+NOTE_REQUIRED = "A note is required."
 ONLY_ADMINISTRATORS = "Only administrators manage roles."
 NO_SELF_GRANT = "Administrators cannot grant roles to themselves."
 TOKEN_CANNOT_SIGN = "Requests authenticated by an API token can never sign; sign in with a session."
@@ -36,6 +44,8 @@ STALE = "The process changed after this revision was lodged; it has been replace
 OPEN_BLOCKING_FINDINGS = "Blocking findings are still open; close them before endorsement."
 REASON_REQUIRED = "A reason is required."
 FINDING_FROZEN = "A resolved or withdrawn finding is not changed again."
+NOT_OPEN_FINDING = "Only an open finding can be marked ready for check."
+NOT_READY_FINDING = "Only a finding marked ready for check can be reopened."
 
 
 class ReviewError(Exception):

@@ -279,8 +279,13 @@ class FindingKind(models.TextChoices):
 
 class FindingStatus(models.TextChoices):
     OPEN = "open", "Open"
+    READY_FOR_CHECK = "ready_for_check", "Ready for check (the owner reports it done)"
     RESOLVED = "resolved", "Resolved"
     WITHDRAWN = "withdrawn", "Withdrawn"
+
+
+# A finding in these states is not settled: a blocking one still bars endorsement.
+UNSETTLED_FINDING = (FindingStatus.OPEN, FindingStatus.READY_FOR_CHECK)
 
 
 @tracked()
@@ -301,7 +306,7 @@ class Finding(models.Model):
     )
     due_date = models.DateField()
     status = models.CharField(
-        max_length=10, choices=FindingStatus.choices, default=FindingStatus.OPEN
+        max_length=20, choices=FindingStatus.choices, default=FindingStatus.OPEN
     )
     raised_by = models.ForeignKey(
         settings.AUTH_USER_MODEL, on_delete=models.PROTECT, related_name="+"
@@ -313,6 +318,25 @@ class Finding(models.Model):
 
     def __str__(self) -> str:
         return f"{self.kind} finding: {self.title}"
+
+
+@tracked()
+class FindingNote(models.Model):
+    """A progress note on a finding (usually its owner's); the raiser's text stays as raised."""
+
+    finding = models.ForeignKey(Finding, on_delete=models.PROTECT, related_name="notes")
+    author = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.PROTECT, related_name="+"
+    )
+    text = models.TextField(max_length=4000)
+    created_at = models.DateTimeField(db_default=Now())
+
+    class Meta:
+        ordering = ["finding_id", "created_at", "id"]
+        triggers = [_append_only("finding_note_append_only")]
+
+    def __str__(self) -> str:
+        return f"note on finding {self.finding_id}"
 
 
 class ChainLink(models.Model):

@@ -9,6 +9,7 @@ from rest_framework import serializers
 from hazards.models import Process
 from hazards.review.models import (
     Finding,
+    FindingNote,
     Meaning,
     ProcessRevision,
     ProcessRole,
@@ -92,22 +93,37 @@ class DiffQuerySerializer(serializers.Serializer):
     against = serializers.IntegerField(help_text="Id of the other revision of the same process.")
 
 
+class FindingNoteSerializer(serializers.ModelSerializer):
+    author = serializers.SlugRelatedField(slug_field="username", read_only=True)
+    created_at = UtcDateTimeField(read_only=True)
+
+    class Meta:
+        model = FindingNote
+        fields = ["id", "finding", "author", "text", "created_at"]
+        read_only_fields = ["id", "finding", "author", "created_at"]
+
+
 class FindingSerializer(serializers.ModelSerializer):
     owner = serializers.SlugRelatedField(slug_field="username",
                                          queryset=get_user_model().objects.all())
     raised_by = serializers.SlugRelatedField(slug_field="username", read_only=True)
     created_at = UtcDateTimeField(read_only=True)
     reason = serializers.CharField(write_only=True, required=False, allow_blank=True)
+    notes = FindingNoteSerializer(many=True, read_only=True,
+                                  help_text="Progress notes, oldest first (never edited).")
 
     class Meta:
         model = Finding
         fields = ["id", "process", "revision", "title", "description", "kind", "owner",
-                  "due_date", "status", "raised_by", "created_at", "reason"]
+                  "due_date", "status", "raised_by", "created_at", "reason", "notes"]
         # A finding starts open; its status moves only through the rules of the service.
         read_only_fields = ["status", "raised_by", "created_at"]
 
 
 class FindingUpdateSerializer(FindingSerializer):
+    """Owners may only move `status` to `ready_for_check` (the reason becomes their note);
+    the raiser, or a reviewer or approver who does not own it, settles and reshapes it."""
+
     reason = serializers.CharField(write_only=True)
 
     class Meta(FindingSerializer.Meta):

@@ -28,7 +28,7 @@ from hazards.review.models import (
     Role,
     Signature,
 )
-from hazards.review.selectors import content_diff
+from hazards.review.selectors import content_diff, record_history
 from hazards.review.services import findings as finding_services
 from hazards.review.services import revisions as rev
 from hazards.review.signing import printed_name
@@ -116,9 +116,35 @@ class FindingForm(forms.Form):
 
 
 class FindingUpdateForm(forms.Form):
+    prefix = "status"
     status = forms.ChoiceField(label="New status", choices=FindingStatus.choices)
     reason = forms.CharField(label="Reason (what was done)", max_length=1000,
                              widget=forms.Textarea(attrs={"rows": 2}))
+
+    def __init__(self, *args, choices, **kwargs):
+        super().__init__(*args, **kwargs)
+        self.fields["status"].choices = choices
+
+
+class FindingNoteForm(forms.Form):
+    prefix = "note"
+    text = forms.CharField(label="Progress note", max_length=4000,
+                           widget=forms.Textarea(attrs={"rows": 3}))
+
+
+def finding_moves(user, finding) -> list[tuple[str, str]]:
+    """The status changes this person may make now (the rule is the service's)."""
+    if finding.status in finding_services.SETTLED:
+        return []
+    if finding_services.is_checker(user, finding):
+        targets = [FindingStatus.RESOLVED, FindingStatus.WITHDRAWN]
+        targets.insert(0, FindingStatus.OPEN if finding.status == FindingStatus.READY_FOR_CHECK
+                       else FindingStatus.READY_FOR_CHECK)
+    elif finding.owner_id == user.pk and finding.status == FindingStatus.OPEN:
+        targets = [FindingStatus.READY_FOR_CHECK]
+    else:
+        return []
+    return [(t.value, t.label) for t in targets]
 
 
 def last_approved(process, exclude=None):
@@ -256,25 +282,38 @@ def finding_detail(request, pk):
     finding = get_object_or_404(Finding.objects.select_related("process", "owner", "raised_by"),
                                 pk=pk)
     visible_or_404(request.user, Process.objects.all(), pk=finding.process_id)
-    form = FindingUpdateForm(request.POST or None, initial={"status": finding.status})
+    moves = finding_moves(request.user, finding)
+    posted = request.POST if request.method == "POST" else None
+    action = request.POST.get("action") if posted else None
+    form = FindingUpdateForm(posted if action == "status" else None, choices=moves)
+    note_form = FindingNoteForm(posted if action == "note" else None)
     status = 200
     if request.method == "POST":
-        if form.is_valid():
+        bound = form if action == "status" else note_form
+        if bound.is_valid():
             try:
-                finding_services.finding_update(finding=finding, user=request.user,
-                                                reason=form.cleaned_data["reason"],
-                                                status=form.cleaned_data["status"])
+                if action == "status":
+                    finding_services.finding_update(finding=finding, user=request.user,
+                                                    reason=form.cleaned_data["reason"],
+                                                    status=form.cleaned_data["status"])
+                else:
+                    finding_services.finding_note(finding=finding, user=request.user,
+                                                  text=note_form.cleaned_data["text"])
             except E.ReviewError as exc:
-                form.add_error(None, exc.message)
+                bound.add_error(None, exc.message)
                 status = exc.status
             else:
-                messages.success(request, "Finding updated.")
-                return redirect("web-review", pk=finding.process_id)
+                if action == "status":
+                    messages.success(request, "Finding updated.")
+                    return redirect("web-review", pk=finding.process_id)
+                messages.success(request, "Note added.")
+                return redirect("web-finding", pk=finding.pk)
         else:
             status = 400
-    from hazards.review.selectors import record_history
-
     return render(request, "hazards/finding.html", {
-        "finding": finding, "form": form, "history": record_history(finding),
+        "finding": finding, "form": form if moves else None,
+        "note_form": note_form if finding_services.may_note(request.user, finding)
+        and finding.status not in finding_services.SETTLED else None,
+        "notes": finding.notes.select_related("author"), "history": record_history(finding),
         "process": finding.process, "today": dt.date.today(),
     }, status=status)

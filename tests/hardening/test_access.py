@@ -67,7 +67,7 @@ def _detail_urls(schema, w):
     ids = {"processes": w["mine"]["process"].pk, "steps": w["mine"]["step"].pk,
            "calorimetry-runs": w["mine"]["run"].pk, "decomposition-tests": w["mine"]["test"].pk,
            "dossiers": w["dossier"].pk, "revisions": w["revision"].pk,
-           "history": w["mine"]["step"].pk}
+           "history": w["mine"]["step"].pk, "findings": w["finding"].pk}
     for method, path in operations(schema):
         match = re.match(r"^/api/v1/([^/]+)/(\{label\}/)?\{id\}/", path)
         if not match or match.group(1) not in ids:
@@ -89,7 +89,8 @@ def test_every_detail_route_refuses_the_author_of_another_process(schema, world_
                                         "initial_mass": "1 g", "feed_mass": "1 g"},
                                   format="multipart")
         else:
-            body = {"password": PASSWORD, "reason": "hardening", "meaning": "reviewed"}
+            body = {"password": PASSWORD, "reason": "hardening", "meaning": "reviewed",
+                    "text": "a note", "status": "resolved"}
             if path.endswith("/diff/"):
                 url += f"?against={world_in_tx['revision'].pk}"
             response = other.generic(method, url, data=json.dumps(body),
@@ -207,4 +208,9 @@ def world_in_tx(db):
     out["dossier"], _ = dossier_request(process=out["mine"]["process"], enqueue=False)
     out["revision"] = rv.revision_open(process=out["mine"]["process"],
                                        user=out["mine"]["user"], reason="first issue")
+    from hazards.review.models import Finding
+
+    out["finding"] = Finding.objects.create(
+        process=out["mine"]["process"], title="Relief basis", kind="blocking",
+        owner=out["mine"]["user"], raised_by=out["mine"]["user"], due_date="2027-01-01")
     return out

@@ -206,7 +206,8 @@ WRITES = [
     ("update finding", lambda api, s, w: api.patch(
         f"/api/v1/findings/{s.finding.pk}/", {"status": "resolved", "reason": "matrix"},
         format="json"),
-     only({"reviewer": 200, "approver": 200, "author": 200}, 403)),
+     # The owner (author) marks it ready for check; only checkers settle it (issue 18).
+     only({"reviewer": 200, "approver": 200}, 403)),
     ("grant role", lambda api, s, w: api.post("/api/v1/process-roles/", {
         "process": s.process.pk, "user": "outsider", "role": "auditor", "reason": "matrix"},
         format="json"),

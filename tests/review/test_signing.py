@@ -147,10 +147,21 @@ def test_an_open_blocking_finding_refuses_approval_until_resolved(process, autho
                                         format="json")
     assert refused.status_code == 409 and refused.json()["detail"] == E.OPEN_BLOCKING_FINDINGS
 
+    # The owner cannot close it (issue 18 item 1); reporting it done keeps it blocking.
     closed = client_for(author).patch(f"/api/v1/findings/{finding.pk}/",
                                       {"status": "resolved", "reason": "interlock tested"},
                                       format="json")
-    assert closed.status_code == 200, closed.content
+    assert closed.status_code == 403, closed.content
+    ready = client_for(author).patch(f"/api/v1/findings/{finding.pk}/",
+                                     {"status": "ready_for_check", "reason": "interlock tested"},
+                                     format="json")
+    assert ready.status_code == 200, ready.content
+    still = client_for(approver).post(url(checked, "approve"), {"password": PASSWORD},
+                                      format="json")
+    assert still.status_code == 409 and still.json()["detail"] == E.OPEN_BLOCKING_FINDINGS
+    checked_by_raiser = client_for(reviewer).patch(f"/api/v1/findings/{finding.pk}/", {
+        "status": "resolved", "reason": "interlock test record seen"}, format="json")
+    assert checked_by_raiser.status_code == 200, checked_by_raiser.content
     approved = client_for(approver).post(url(checked, "approve"), {"password": PASSWORD},
                                          format="json")
     assert approved.status_code == 201, approved.content

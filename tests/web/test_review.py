@@ -68,10 +68,30 @@ def test_a_finding_is_raised_and_waits_on_its_owners_start_page(people, process,
     finding = Finding.objects.get()
     start = client_as(people["author"]).get("/").content.decode()
     assert "Check the dosing interlock" in start and "Blocking" in start
-    # the owner resolves it with a reason
+    # The owner cannot resolve it (issue 18 item 1): the page offers only "ready for check".
+    page = client_as(people["author"]).get(f"/findings/{finding.pk}/").content.decode()
+    assert 'value="ready_for_check"' in page and 'value="resolved"' not in page
+    refused = client_as(people["author"]).post(f"/findings/{finding.pk}/", {
+        "action": "status", "status-status": "resolved",
+        "status-reason": "interlock test record attached"})
+    assert refused.status_code == 400
+    noted = client_as(people["author"]).post(f"/findings/{finding.pk}/", {
+        "action": "note", "note-text": "Interlock test booked for Tuesday."})
+    assert noted.status_code == 302
     done = client_as(people["author"]).post(f"/findings/{finding.pk}/", {
-        "status": "resolved", "reason": "interlock test record attached"})
+        "action": "status", "status-status": "ready_for_check",
+        "status-reason": "interlock test record attached"})
     assert done.status_code == 302
+    finding.refresh_from_db()
+    assert finding.status == "ready_for_check"
+    assert [n.text for n in finding.notes.order_by("id")] == [
+        "Interlock test booked for Tuesday.", "interlock test record attached"]
+    # The reviewer who raised it checks and resolves it.
+    page = client_as(people["reviewer"]).get(f"/findings/{finding.pk}/").content.decode()
+    assert "Interlock test booked for Tuesday." in page and 'value="resolved"' in page
+    checked = client_as(people["reviewer"]).post(f"/findings/{finding.pk}/", {
+        "action": "status", "status-status": "resolved", "status-reason": "record seen"})
+    assert checked.status_code == 302
     finding.refresh_from_db()
     assert finding.status == "resolved"
 

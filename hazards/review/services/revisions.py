@@ -33,9 +33,9 @@ from hazards.review.content import revision_content as _content
 from hazards.review.models import (
     OPEN_STATES,
     SIGNED_STATES,
+    UNSETTLED_FINDING,
     Finding,
     FindingKind,
-    FindingStatus,
     Meaning,
     ProcessRevision,
     ReviewState,
@@ -183,7 +183,7 @@ def _sign_locked(revision_id, user, meaning, role, needed, to_state, role_error,
     elif live_hash != revision.content_sha256:
         raise _Stale()
     if meaning == Meaning.APPROVED and Finding.objects.filter(
-        process_id=revision.process_id, kind=FindingKind.BLOCKING, status=FindingStatus.OPEN
+        process_id=revision.process_id, kind=FindingKind.BLOCKING, status__in=UNSETTLED_FINDING
     ).exists():
         raise E.TransitionRefused(E.OPEN_BLOCKING_FINDINGS)
 
