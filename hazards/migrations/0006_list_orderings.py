@@ -7,7 +7,7 @@ from django.db import migrations, models
 class Migration(migrations.Migration):
 
     dependencies = [
-        ('hazards', '0003_text_length_limits'),
+        ('hazards', '0005_snapshot_libraries'),
         migrations.swappable_dependency(settings.AUTH_USER_MODEL),
     ]
 
