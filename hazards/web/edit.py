@@ -311,7 +311,10 @@ def solvent_edit(request, pk):
 @login_required
 def reference_list(request, kind):
     model = {"vessels": Vessel, "solvents": Solvent}[kind]
+    # The template gets the names, not the model class: a template calls a class it is given
+    # (an empty instance), so `model.verbose_name_plural` printed nothing.
     return render(request, "hazards/reference_list.html", {
-        "kind": kind, "rows": model.objects.all(), "model": model,
+        "kind": kind, "rows": model.objects.all(),
+        "plural": str(model._meta.verbose_name_plural), "noun": str(model._meta.verbose_name),
         "can_add": common.can_edit(request.user, model),
     })
