@@ -6,8 +6,13 @@ import io
 import random
 import time
 
+from django.conf import settings
 from django.core.exceptions import RequestDataTooBig
 from django.db import connection
+from django.shortcuts import render
+
+from hazards.api.errors import problem_body, problem_response
+from hazards.quantities import size_text
 
 
 class ApiNoStoreMiddleware:
@@ -86,3 +91,27 @@ class RetryTransientDatabaseErrors:
 
     def process_exception(self, request, exception):
         mark_transient(request, exception)
+
+
+class RefuseOversizedBodies:
+    """Refuse a request whose declared body is above the upload limit before a byte of it is
+    read, with the limit stated: a problem (413) for the API, a page for the browser. Without
+    this, a page upload over the limit met Django's bare 400 and the API a parser's message."""
+
+    def __init__(self, get_response):
+        self.get_response = get_response
+
+    def __call__(self, request):
+        length = request.META.get("CONTENT_LENGTH") or ""
+        limit = settings.DATA_UPLOAD_MAX_MEMORY_SIZE
+        if not (length.isdigit() and limit is not None and int(length) > limit):
+            return self.get_response(request)
+        size = size_text(int(length))
+        detail = f"The request body ({size}) is larger than the limit of {size_text(limit)}."
+        if request.path.startswith("/api/"):
+            return problem_response(problem_body("payload_too_large", detail, errors=[{
+                "field": "body", "value": int(length), "code": "too_large",
+                "rule": f"must not be larger than {size_text(limit)}"}]))
+        response = render(request, "413.html", {"detail": detail}, status=413)
+        response["Connection"] = "close"  # the unread body must not be taken for a request
+        return response

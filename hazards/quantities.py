@@ -260,3 +260,11 @@ def from_si(si_value: float | None, *, kind: str) -> float | None:
 def display_unit(kind: str) -> str:
     unit = SPECS[kind].canonical_unit
     return DISPLAY.get(unit, unit)
+
+
+def size_text(n_bytes: int) -> str:
+    """A size limit as every page, API message and document states it: "4 MiB (4,194,304 bytes)"
+    (IEC 80000-13 binary prefixes), the exact byte count always given."""
+    mib = n_bytes / 1024**2
+    shown = f"{mib:g} MiB" if n_bytes % 1024**2 == 0 else f"{mib:.2f} MiB"
+    return f"{shown} ({n_bytes:,} bytes)"

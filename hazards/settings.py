@@ -73,6 +73,8 @@ MIDDLEWARE = [
     "django.middleware.common.CommonMiddleware",
     "django.middleware.csrf.CsrfViewMiddleware",
     "django.contrib.auth.middleware.AuthenticationMiddleware",
+    # Before anything reads the body (the CSRF check reads a form in process_view, later).
+    "hazards.middleware.RefuseOversizedBodies",
     "hazards.web.middleware.SessionExpiryMiddleware",
     "django_htmx.middleware.HtmxMiddleware",
     "django.contrib.messages.middleware.MessageMiddleware",

@@ -18,6 +18,7 @@ from rest_framework.parsers import get_encoding
 # The module, not its names: hazards.api.errors imports DRF's views, whose APIView reads
 # this parser set from the settings while errors is still being imported.
 from hazards.api import errors
+from hazards.quantities import size_text
 
 # Deeper than any document of this API; json's C decoder recurses per level.
 MAX_DEPTH = 64
@@ -80,7 +81,7 @@ def _refuse_oversized(parser_context) -> None:
     if length and length.isdigit() and int(length) > settings.DATA_UPLOAD_MAX_MEMORY_SIZE:
         raise errors.ProblemError(
             "payload_too_large",
-            f"The body is larger than {settings.DATA_UPLOAD_MAX_MEMORY_SIZE} bytes.",
+            f"The body is larger than the limit of {size_text(settings.DATA_UPLOAD_MAX_MEMORY_SIZE)}.",
         )
 
 
@@ -93,7 +94,7 @@ class LimitedJSONParser(parsers.JSONParser):
         if len(raw) > settings.DATA_UPLOAD_MAX_MEMORY_SIZE:
             raise errors.ProblemError(
                 "payload_too_large",
-                f"The body is larger than {settings.DATA_UPLOAD_MAX_MEMORY_SIZE} bytes.",
+                f"The body is larger than the limit of {size_text(settings.DATA_UPLOAD_MAX_MEMORY_SIZE)}.",
             )
         encoding = get_encoding(parser_context or {})
         try:

@@ -14,7 +14,7 @@ from hazards.api.errors import ProblemError, flatten_errors, summarise
 from hazards.api.fields import QuantityField
 from hazards.api.idempotency import idempotent
 from hazards.models import CalorimetrySeries
-from hazards.quantities import SPECS, display_unit, from_si
+from hazards.quantities import SPECS, display_unit, from_si, size_text
 from hazards.services import series as parser
 from hazards.services.records import StaleRecord
 from hazards.services.series_store import (
@@ -41,7 +41,7 @@ answer gives the derived values and the MTSR(t) curve (with the step's c_p and T
 A bad file is refused as a whole (`series_rejected`, 400) with one `errors` item per
 problem, giving `row` (header = 1) and `column`: wrong encoding, missing or unknown column,
 unknown unit, empty, non-numeric (including formulas such as `=SUM(A1:A3)`) or non-finite
-(`nan`, `inf`, `1e309`) cells, time not increasing. Limits: {parser.MAX_BYTES} bytes (413
+(`nan`, `inf`, `1e309`) cells, time not increasing. Limits: {size_text(parser.MAX_BYTES)} per file (413
 above), {parser.MAX_ROWS} data rows, {parser.MAX_PROBLEMS} problems listed. A run keeps one
 series: a second upload gets 409. Optional `If-Match` with the run's ETag guards against
 uploading onto a run that changed."""
@@ -177,10 +177,10 @@ def series_view(view, request):
 def _upload(request, run):
     upload = request.FILES.get("file")
     if upload is not None and upload.size > parser.MAX_BYTES:
-        raise ProblemError("payload_too_large", f"The file is larger than the limit of "
-                           f"{parser.MAX_BYTES} bytes.", errors=[{
-                               "field": "file", "value": upload.name, "code": "too_large",
-                               "rule": f"is larger than the limit of {parser.MAX_BYTES} bytes"}])
+        limit = size_text(parser.MAX_BYTES)
+        raise ProblemError("payload_too_large", f"The file is larger than the limit of {limit}.",
+                           errors=[{"field": "file", "value": upload.name, "code": "too_large",
+                                    "rule": f"is larger than the limit of {limit}"}])
     form = UploadSerializer(data=request.data)
     if not form.is_valid():
         errors = flatten_errors(form.errors, request.data)

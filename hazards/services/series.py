@@ -30,7 +30,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from hazards.quantities import normalise_unit
+from hazards.quantities import normalise_unit, size_text
 
 MAX_BYTES = 4 * 1024 * 1024
 MAX_ROWS = 50_000
@@ -248,7 +248,7 @@ def parse_series(raw: bytes, *, feed_mass_kg: float | None = None,
     """
     problems = _Problems()
     if len(raw) > max_bytes:
-        problems.add(None, None, len(raw), f"is larger than the limit of {max_bytes} bytes",
+        problems.add(None, None, len(raw), f"is larger than the limit of {size_text(max_bytes)}",
                      "too_large")
         return problems.result()
     if not raw.strip():

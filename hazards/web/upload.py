@@ -25,6 +25,7 @@ from django.shortcuts import redirect, render
 
 from hazards.forms import QuantityFormField
 from hazards.models import CalorimetryRun, CalorimetrySeries, ReactionStep
+from hazards.quantities import size_text
 from hazards.services import series as parser
 from hazards.services.records import StaleRecord, record_create
 from hazards.services.series_store import (
@@ -45,7 +46,8 @@ _HEADER = re.compile(r"^\s*([^\[\]]*?)\s*(?:\[\s*(.*?)\s*\])?\s*$")
 class ChooseForm(forms.Form):
     file = forms.FileField(label="Calorimeter file (CSV)", help_text=(
         "UTF-8 CSV with a header such as: time [min], heat_release_rate [W], dosed_mass [g] "
-        "or dosed_fraction [-], and optionally reactor_temperature [degC]."))
+        "or dosed_fraction [-], and optionally reactor_temperature [degC]; at most "
+        f"{size_text(parser.MAX_BYTES)}."))
     initial_mass = QuantityFormField(kind="mass", label="Lab-scale mass before dosing",
                                      help_text="e.g. 400 g")
     feed_mass = QuantityFormField(kind="mass", label="Lab-scale mass dosed (whole feed)",
