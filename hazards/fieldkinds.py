@@ -20,6 +20,7 @@ QUANTITY_FIELDS: dict[str, dict[str, str]] = {
         "operating_pressure_pa": "pressure",
         "dosing_time_s": "time",
         "mtt_override_k": "temperature",
+        "initial_mass_fraction": "fraction",
     },
     "calorimetryrun": {
         "lab_scale_kg": "mass",

@@ -147,6 +147,8 @@ def indicators_payload(snapshot: IndicatorSnapshot | None) -> dict | None:
         mtsr_time=_quantity(values.get("mtsr_time_s"), "time"),
         end_pressure=_quantity(values.get("end_pressure_pa"), "pressure"),
         td24_below_process_temperature=values.get("td24_below_process_temperature"),
+        mtt_at_ambient_pressure=_quantity(values.get("mtt_at_ambient_pressure_k"), "temperature"),
+        criticality_class_at_ambient_pressure=values.get("criticality_class_at_ambient_pressure"),
         warnings=list(snapshot.warnings),
         methods=dict(snapshot.methods),
         parameters=dict(snapshot.parameters),
@@ -181,7 +183,17 @@ class IndicatorsSerializer(serializers.Serializer):
     mtsr_time = QuantityField("time", allow_null=True)
     end_pressure = QuantityField("pressure", allow_null=True)
     td24_below_process_temperature = serializers.JSONField(allow_null=True)
-    warnings = serializers.ListField(child=serializers.JSONField())
+    mtt_at_ambient_pressure = QuantityField(
+        "temperature", allow_null=True, help_text="Under vacuum only: the boiling point at 1 atm, "
+        "the MTT if the vacuum is lost (null otherwise).")
+    criticality_class_at_ambient_pressure = serializers.IntegerField(
+        allow_null=True, min_value=1, max_value=5, help_text="Under vacuum only: the class with "
+        "the MTT at 1 atm, given beside the class (null otherwise).")
+    warnings = serializers.ListField(
+        child=serializers.JSONField(), help_text="What the numbers cannot say on their own, in "
+        "words: unknown inputs (e.g. MTT unknown for a closed vessel without vapour-pressure "
+        "data), the basis used, extrapolation distances, and plausibility warnings that name "
+        "the field, its value and the likely unit slip.")
     methods = serializers.DictField(child=serializers.JSONField(),
                                     help_text="Indicator -> the calcs method that produced it.")
     parameters = serializers.DictField(child=serializers.JSONField())
@@ -212,6 +224,14 @@ class StepSerializer(RecordSerializer):
     dosing_time = QuantityField("time", source="dosing_time_s", required=False, allow_null=True)
     mtt_override = QuantityField("temperature", source="mtt_override_k", required=False,
                                  allow_null=True)
+    initial_mass_fraction = QuantityField(
+        "fraction", required=False, allow_null=True,
+        help_text="Semi-batch: the initial charge as a fraction of the final mass (m_0/m_final); "
+        "with it an entered maximum accumulation is used on the mass present.")
+    non_volatile_declared = serializers.BooleanField(
+        required=False, help_text="Closed vessel without solvent vapour-pressure data: the "
+        "reaction mass is declared non-volatile (needs `non_volatile_reason`); without it MTT "
+        "is unknown and no class is assigned.")
     indicators = serializers.SerializerMethodField()
     needs_review = serializers.BooleanField(read_only=True)
 
@@ -220,8 +240,9 @@ class StepSerializer(RecordSerializer):
         fields = [
             "id", "process", "sequence", "name", "operation_mode", "process_temperature",
             "reaction_mass", "specific_heat_capacity", "system", "operating_pressure", "solvent",
-            "vessel", "dosing_time", "mtt_override", "mtt_override_reason", "needs_review",
-            "indicators",
+            "vessel", "dosing_time", "mtt_override", "mtt_override_reason",
+            "initial_mass_fraction", "non_volatile_declared", "non_volatile_reason",
+            "needs_review", "indicators",
         ]
 
     def update(self, instance, validated_data):

@@ -29,6 +29,9 @@ INPUTS = [
     ("operating_pressure_pa", "Operating pressure", _BAR, "step"),
     ("dosing_time_s", "Dosing time", _MIN, "step"),
     ("mtt_override_k", "MTT override", _C, "step"),
+    ("initial_mass_fraction", "Initial charge / final mass", ("%", lambda x: x * 100), "step"),
+    ("non_volatile_declared", "Reaction mass declared non-volatile", None, "step"),
+    ("non_volatile_reason", "Basis of the non-volatile declaration", None, "step"),
     ("specific_reaction_heat_j_per_kg", "Specific reaction heat Q′", _KJKG, "calorimetry"),
     ("max_accumulation", "Maximum accumulation", ("%", lambda x: x * 100), "calorimetry"),
     ("max_heat_release_rate_w_per_kg", "Peak heat-release rate", ("W/kg", lambda x: x),
@@ -61,9 +64,12 @@ INDICATORS = [
     ("mtsr_k", "MTSR", _C, "mtsr"),
     ("mtsr_time_s", "Time of the MTSR maximum", _MIN, "mtsr"),
     ("mtt_k", "MTT", _C, "mtt"),
+    ("mtt_at_ambient_pressure_k", "MTT at 1 atm (if the vacuum is lost)", _C, "mtt"),
     ("td24_k", "TD24", _C, "td24"),
     ("tmr_ad_at_mtsr_s", "TMRad at MTSR", _H, "tmr_ad_at_mtsr"),
     ("criticality_class", "Criticality class", _PLAIN, "criticality_class"),
+    ("criticality_class_at_ambient_pressure", "Criticality class at 1 atm (if the vacuum is lost)",
+     _PLAIN, "criticality_class"),
     ("severity", "Severity", None, "severity"),
     ("probability", "Probability", None, "probability"),
     ("risk_cell", "Risk-matrix cell", None, "risk_cell"),
@@ -102,6 +108,16 @@ PARAMETERS = {
     "operating_pressure_pa_assumed": ("Operating pressure assumed", _BAR),
     "pad_pressure_at_process_temperature_pa": ("Pad-gas pressure at Tp", _BAR),
     "gas_released_mol": ("Gas released in the vessel", ("mol", lambda x: x)),
+    "accumulation_mass_basis": ("Mass the entered accumulation is referred to", None),
+    "accumulation_on_mass_present": ("Largest accumulation on the mass present (final-mass "
+                                     "terms)", ("%", lambda x: x * 100)),
+    "initial_mass_fraction": ("Initial charge / final mass", ("%", lambda x: x * 100)),
+    "rate_constant_from_accumulation_per_s": ("Rate constant implied by the accumulation",
+                                              ("1/min", lambda x: x * 60)),
+    "lowest_measured_temperature_k": ("Lowest temperature of the decomposition data", _C),
+    "td24_extrapolation_k": ("TD24 below the lowest measured temperature", _K),
+    "tmr_extrapolation_k": ("MTSR below the lowest measured temperature (TMRad)", _K),
+    "ambient_pressure_pa": ("Atmospheric pressure for the class without vacuum", _BAR),
 }
 
 METHOD_LABELS = {
@@ -111,7 +127,9 @@ METHOD_LABELS = {
     "adiabatic.endothermic_no_rise": "endothermic reaction: no rise (ΔTad = 0)",
     "mtsr.batch": "batch: MTSR = Tp + ΔTad",
     "mtsr.semi_batch.series": "semi-batch: max of Tr(t) + X_ac(t)·Q/(m(t)·cp) over the series",
-    "mtsr.semi_batch.max_accumulation": "semi-batch: Tp + X_ac,max·ΔTad",
+    "mtsr.semi_batch.max_accumulation": "semi-batch: Tp + X_ac,max·ΔTad (final mass)",
+    "mtsr.semi_batch.max_accumulation_mass_basis":
+        "semi-batch: entered X_ac,max on the mass present (initial charge given)",
     "mtsr.semi_batch.worst_case_no_accumulation_data": "semi-batch worst case: Tp + ΔTad",
     "mtt.override": "entered override (reason recorded)",
     "td24.kinetic": "zero-order kinetics from Ea, Tref, qref",
@@ -192,6 +210,8 @@ def _number(value) -> str:
 def _show(value, conv) -> tuple[str, str]:
     if value is None or value == "":
         return "—", ""
+    if isinstance(value, bool):
+        return ("yes" if value else "no"), ""
     if conv is None:
         text = {**MODE, **SYSTEM}.get(value, str(value)) if isinstance(value, str) else str(value)
         return text, ""
@@ -276,7 +296,8 @@ def _step(step: dict, context: dict) -> dict:
     for key, label, conv, method in INDICATORS:
         value, unit = _show(values.get(key), conv)
         m = methods.get(method)
-        if key == "mtsr_time_s" and values.get(key) is None:
+        if key in ("mtsr_time_s", "mtt_at_ambient_pressure_k",
+                   "criticality_class_at_ambient_pressure") and values.get(key) is None:
             continue
         if key == "td24_k" and params.get("td24_label"):
             label = f"{label} ({params['td24_label']})"

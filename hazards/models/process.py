@@ -83,6 +83,13 @@ class ReactionStep(InputModel):
     dosing_time_s = models.FloatField(null=True, blank=True)
     mtt_override_k = models.FloatField(null=True, blank=True)
     mtt_override_reason = models.TextField(blank=True, validators=[MaxLengthValidator(2000)])
+    # m_0/m_final of a semi-batch step: an entered maximum accumulation is then used on the
+    # mass present (calcs.semibatch.mass_basis_accumulation)
+    initial_mass_fraction = models.FloatField(null=True, blank=True)
+    # A closed vessel without solvent vapour-pressure data has no MTT unless this explicit,
+    # recorded declaration says the reaction mass is non-volatile (with its basis).
+    non_volatile_declared = models.BooleanField(default=False)
+    non_volatile_reason = models.TextField(blank=True, validators=[MaxLengthValidator(2000)])
     # Set by the indicator service when the inputs of an approved step change.
     needs_review = models.BooleanField(default=False)
     approved_inputs_hash = models.CharField(max_length=64, blank=True)
@@ -115,6 +122,19 @@ class ReactionStep(InputModel):
                 | (Q(mtt_override_k__gt=0) & ~Q(mtt_override_reason="")),
                 name="step_mtt_override_has_reason",
                 violation_error_message="An MTT override needs a reason.",
+            ),
+            models.CheckConstraint(
+                condition=Q(initial_mass_fraction__isnull=True)
+                | (Q(initial_mass_fraction__gt=0) & Q(initial_mass_fraction__lte=1)),
+                name="step_initial_mass_fraction_range",
+                violation_error_message="The initial charge must be a fraction of the final "
+                "mass above 0 and at most 1.",
+            ),
+            models.CheckConstraint(
+                condition=Q(non_volatile_declared=False) | ~Q(non_volatile_reason=""),
+                name="step_non_volatile_has_reason",
+                violation_error_message="A declaration that the mass is non-volatile needs "
+                "its basis.",
             ),
             models.CheckConstraint(
                 condition=~Q(operation_mode="semi_batch") | Q(dosing_time_s__isnull=False),

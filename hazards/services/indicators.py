@@ -111,6 +111,7 @@ ORDER BY s.id
 _STEP_FIELDS = ("operation_mode", "process_temperature_k", "reaction_mass_kg",
                 "specific_heat_capacity_j_per_kg_k", "system", "operating_pressure_pa",
                 "dosing_time_s", "mtt_override_k")
+_OPTIONAL_STEP_FIELDS = ("initial_mass_fraction", "non_volatile_declared")
 _VESSEL_FIELDS = {
     "vessel_heat_transfer_area_m2": "heat_transfer_area_m2",
     "vessel_u_w_per_m2_k": "heat_transfer_coefficient_w_per_m2_k",
@@ -152,6 +153,11 @@ def case_from_row(step_id: int, step: dict, vessel: dict | None, solvent: dict |
     if solvent is not None and solvent["vapour_pressure_source"] == "antoine":
         antoine = {key: solvent[col] for key, col in _ANTOINE_FIELDS.items()}
     fields = {name: step[name] for name in _STEP_FIELDS}
+    # Inputs added later enter the case (and its hash) only when set, so a step that does not
+    # use them keeps its inputs hash and an approval stays valid.
+    for name in _OPTIONAL_STEP_FIELDS:
+        if step.get(name):
+            fields[name] = step[name]
     fields["solvent_cas"] = solvent["cas_number"] if solvent and antoine is None else None
     fields.update({key: vessel.get(col) for key, col in _VESSEL_FIELDS.items()})
     fields.update({key: run.get(key) for key in _RUN_FIELDS})
@@ -176,6 +182,8 @@ def case_from_row(step_id: int, step: dict, vessel: dict | None, solvent: dict |
     )
     inputs = {
         **fields,
+        **({"non_volatile_reason": step.get("non_volatile_reason") or ""}
+           if fields.get("non_volatile_declared") else {}),
         "solvent_antoine": antoine,
         "series_sha256": run.get("series_sha256"),
         "peak_temperatures": [list(p) for p in peaks],

@@ -26,6 +26,10 @@ LABELS = {
     "specific_heat_capacity_j_per_kg_k": "Specific heat capacity cp",
     "operating_pressure_pa": "Operating pressure", "dosing_time_s": "Dosing time",
     "mtt_override_k": "MTT override", "mtt_override_reason": "Reason for the MTT override",
+    "initial_mass_fraction": "Initial charge as a fraction of the final mass (semi-batch)",
+    "non_volatile_declared": "Reaction mass declared non-volatile (closed vessel without "
+                             "vapour-pressure data)",
+    "non_volatile_reason": "Basis of the non-volatile declaration",
     "lab_scale_kg": "Lab-scale mass", "run_date": "Run date",
     "specific_reaction_heat_j_per_kg": "Specific reaction heat Q′",
     "max_accumulation": "Maximum accumulation X_ac,max",
@@ -135,7 +139,9 @@ class StepForm(RecordForm):
         "sequence", "name", "operation_mode", "process_temperature_k", "reaction_mass_kg",
         "specific_heat_capacity_j_per_kg_k", "system", "operating_pressure_pa", "solvent",
         "vessel", "dosing_time_s", "mtt_override_k", "mtt_override_reason",
-    ], {"mtt_override_reason": forms.Textarea(attrs={"rows": 2})})
+        "initial_mass_fraction", "non_volatile_declared", "non_volatile_reason",
+    ], {"mtt_override_reason": forms.Textarea(attrs={"rows": 2}),
+        "non_volatile_reason": forms.Textarea(attrs={"rows": 2})})
 
 
 class CalorimetryRunForm(RecordForm):

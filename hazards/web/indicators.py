@@ -33,6 +33,10 @@ INDICATORS = [
      ("MTSR",)),
     ("mtsr_time_s", "Time of the MTSR maximum", "time", "mtsr", ()),
     ("mtt_k", "MTT (maximum technical temperature)", "temperature", "mtt", ("MTT", "boiling")),
+    ("mtt_at_ambient_pressure_k", "MTT at 1 atm (if the vacuum is lost)", "temperature", "mtt",
+     ("vacuum",)),
+    ("criticality_class_at_ambient_pressure", "Criticality class at 1 atm (if the vacuum is lost)",
+     None, "criticality_class", ()),
     ("td24_k", "TD24 (TMRad = 24 h)", "temperature", "td24", ("TD24", "onset")),
     ("tmr_ad_at_mtsr_s", "TMRad at MTSR", "duration_h", "tmr_ad_at_mtsr", ("TMRad", "B =")),
     ("severity", "Severity", None, "severity", ("severity",)),
@@ -46,6 +50,7 @@ INDICATORS = [
     ("end_pressure_pa", "Pressure at MTSR (closed vessel)", "pressure", "end_pressure",
      ("pressure", "relief")),
 ]
+ONLY_WHEN_SET = ("mtt_at_ambient_pressure_k", "criticality_class_at_ambient_pressure")
 KEY_INDICATORS = ("mtsr_k", "mtt_k", "td24_k", "tmr_ad_at_mtsr_s")
 
 
@@ -64,6 +69,8 @@ def indicator_rows(snapshot) -> list[dict]:
     rows = []
     for key, label, kind, method, words in INDICATORS:
         if key not in values and method not in methods:
+            continue
+        if key in ONLY_WHEN_SET and values.get(key) is None:
             continue
         value = values.get(key)
         shown = display.quantity(value, kind) if kind else (

@@ -6,7 +6,7 @@ import sys
 
 from django.core.management.base import BaseCommand
 
-from hazards.models import ReactionStep
+from hazards.models import IndicatorSnapshot, ReactionStep
 from hazards.services.indicators import recompute_steps
 
 BATCH = 200
@@ -42,8 +42,11 @@ class Command(BaseCommand):
                 ReactionStep._base_manager.filter(pk__in=[m[0] for m in moved])
                 .values_list("pk", "name")
             )
+            why = _reasons([m[0] for m in moved])
             for pk, old, new in moved:
                 self.stdout.write(f"  step {pk} ({names.get(pk, '?')}): {_cls(old)} -> {_cls(new)}")
+                for text in why.get(pk, []):
+                    self.stdout.write(f"    why: {text}")
         else:
             self.stdout.write("No criticality class changed.")
 
@@ -53,6 +56,19 @@ class Command(BaseCommand):
         filled = int(width * done / total) if total else width
         sys.stderr.write(f"\r[{'#' * filled}{'.' * (width - filled)}] {done}/{total}")
         sys.stderr.flush()
+
+
+# Warnings of the new snapshot that explain a move of class (an input now missing, a basis
+# or barrier the calcs now treat differently).
+_WHY = ("unknown", "endothermic", "vacuum", "final mass", "capped at 1", "before the whole feed")
+
+
+def _reasons(step_ids) -> dict[int, list[str]]:
+    out: dict[int, list[str]] = {}
+    for step_id, warnings in IndicatorSnapshot.objects.filter(
+            step_id__in=step_ids, is_current=True).values_list("step_id", "warnings"):
+        out[step_id] = [w for w in warnings if any(word in w for word in _WHY)]
+    return out
 
 
 def _cls(value) -> str:
