@@ -9,7 +9,7 @@ from django.db import migrations, models
 class Migration(migrations.Migration):
 
     dependencies = [
-        ('hazards', '0005_snapshot_libraries'),
+        ('hazards', '0006_list_orderings'),
     ]
 
     operations = [
