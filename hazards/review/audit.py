@@ -1,10 +1,9 @@
 """The hash chain over every audit event, and the checks `manage.py verify` reports.
 
-A trigger on every pghistory event table appends one `ChainLink` per new event:
-hash = sha256(prev_hash || payload_sha256), payload_sha256 = sha256(table ":" row JSON).
-Appends take `pg_advisory_xact_lock(CHAIN_LOCK_KEY)`, so concurrent writers cannot fork the
-chain. The trigger function fixes the time zone and float format it renders rows in, so the
-verifier renders each row identically whatever session wrote it.
+Every event is linked into one chain by the database at the COMMIT of its transaction
+(`chain_sql.py`: hash = sha256(prev_hash || payload_sha256), payload_sha256 =
+sha256(table ":" row JSON)). The trigger functions fix the time zone and float format they
+render rows in, so the verifier renders each row identically whatever session wrote it.
 
 The chain proves tampering only if its head is anchored outside the database's reach:
 `head_hash()` is printed by `verify` and on every dossier.
@@ -18,38 +17,15 @@ from dataclasses import dataclass
 from django.apps import apps
 from django.db import connection, transaction
 
-CHAIN_LOCK_KEY = 7_345_012_026
-GENESIS = "0" * 64
-TRIGGER_NAME = "review_chain_link"
-
-FUNCTIONS_SQL = f"""
-CREATE OR REPLACE FUNCTION review_payload_digest(tbl text, payload json) RETURNS text
-LANGUAGE sql IMMUTABLE AS $$
-    SELECT encode(sha256(convert_to(tbl || ':' || payload::text, 'UTF8')), 'hex')
-$$;
-
-CREATE OR REPLACE FUNCTION review_chain_append() RETURNS trigger
-LANGUAGE plpgsql SET timezone = 'UTC' SET extra_float_digits = 1 AS $$
-DECLARE
-    prev text;
-    payload text;
-BEGIN
-    PERFORM pg_advisory_xact_lock({CHAIN_LOCK_KEY});
-    SELECT hash INTO prev FROM review_chainlink ORDER BY seq DESC LIMIT 1;
-    prev := coalesce(prev, repeat('0', 64));
-    payload := review_payload_digest(TG_TABLE_NAME, row_to_json(NEW));
-    INSERT INTO review_chainlink (event_table, event_id, payload_sha256, prev_hash, hash,
-                                  linked_at)
-    VALUES (TG_TABLE_NAME, NEW.pgh_id, payload, prev,
-            encode(sha256(convert_to(prev || payload, 'UTF8')), 'hex'), clock_timestamp());
-    RETURN NULL;
-END
-$$;
-"""
-DROP_FUNCTIONS_SQL = """
-DROP FUNCTION IF EXISTS review_chain_append() CASCADE;
-DROP FUNCTION IF EXISTS review_payload_digest(text, json);
-"""
+from hazards.review.chain_sql import (  # noqa: F401 - the chain's names live here too
+    CHAIN_LOCK_KEY,
+    COMMIT_TRIGGER_NAME,
+    FUNCTIONS_SQL,
+    GENESIS,
+    PENDING_TABLE,
+    TRIGGER_NAME,
+    install_triggers,
+)
 
 
 def link_hash(prev_hash: str, payload_sha256: str) -> str:
@@ -61,34 +37,30 @@ def event_models() -> list:
     from pghistory.models import Event
 
     return [
-        m for m in apps.get_models()
-        if issubclass(m, Event) and not m._meta.abstract and not m._meta.proxy
-        and m._meta.managed
+        m
+        for m in apps.get_models()
+        if issubclass(m, Event) and not m._meta.abstract and not m._meta.proxy and m._meta.managed
     ]
 
 
 def _existing_tables(cursor, tables: list[str]) -> list[str]:
-    cursor.execute("SELECT relname FROM pg_class WHERE relkind = 'r' AND relname = ANY(%s)",
-                   [tables])
+    cursor.execute(
+        "SELECT relname FROM pg_class WHERE relkind = 'r' AND relname = ANY(%s)", [tables]
+    )
     found = {row[0] for row in cursor.fetchall()}
     return [t for t in tables if t in found]
 
 
+def existing_event_tables(cursor) -> list[str]:
+    return _existing_tables(cursor, [m._meta.db_table for m in event_models()])
+
+
 def install_chain_triggers(using: str = "default") -> list[str]:
-    """(Re)install the chain trigger on every event table; returns the tables covered."""
+    """(Re)install the chain's triggers on every event table; returns the tables covered."""
     from django.db import connections
 
     with connections[using].cursor() as cursor:
-        cursor.execute("SELECT to_regproc('review_chain_append') IS NOT NULL")
-        if not cursor.fetchone()[0]:
-            return []
-        tables = _existing_tables(cursor, [m._meta.db_table for m in event_models()])
-        for table in tables:
-            cursor.execute(
-                f'CREATE OR REPLACE TRIGGER {TRIGGER_NAME} AFTER INSERT ON "{table}" '
-                "FOR EACH ROW EXECUTE FUNCTION review_chain_append()"
-            )
-    return tables
+        return install_triggers(cursor, existing_event_tables(cursor))
 
 
 def install_chain_triggers_after_migrate(sender, using="default", **kwargs) -> None:
@@ -119,6 +91,20 @@ def adopt_unlinked_events() -> int:
                 )
                 count += 1
     return count
+
+
+def link_pending_now() -> None:
+    """Link the events of the open transaction now rather than at its COMMIT.
+
+    For a check that runs inside the transaction that wrote them (a test, `verify_all()`
+    inside an atomic block); the transaction then holds the chain lock until it ends.
+    """
+    if not connection.in_atomic_block:
+        return  # autocommit: every event is linked already
+    with connection.cursor() as cursor:
+        cursor.execute(f"SET CONSTRAINTS {TRIGGER_NAME} IMMEDIATE")
+        cursor.execute(f"SET CONSTRAINTS {COMMIT_TRIGGER_NAME} IMMEDIATE")
+        cursor.execute(f"SET CONSTRAINTS {TRIGGER_NAME}, {COMMIT_TRIGGER_NAME} DEFERRED")
 
 
 def head_hash() -> str:
@@ -153,7 +139,8 @@ def verify_chain() -> list[Problem]:
             digests[table] = dict(cursor.fetchall())
         cursor.execute(
             "SELECT c.relname FROM pg_trigger t JOIN pg_class c ON c.oid = t.tgrelid "
-            "WHERE t.tgname = %s AND t.tgenabled <> 'D'", [TRIGGER_NAME]
+            "WHERE t.tgname = %s AND t.tgenabled <> 'D'",
+            [TRIGGER_NAME],
         )
         armed = {row[0] for row in cursor.fetchall()}
     for table in tables:
@@ -188,13 +175,19 @@ def verify_signatures() -> list[Problem]:
     problems = []
     for sig in Signature.objects.select_related("revision", "signer").order_by("id"):
         rev = sig.revision
-        where = (f"signature {sig.pk} ({sig.meaning} by {sig.printed_name}) of process "
-                 f"{rev.process_id} revision {rev.number}")
+        where = (
+            f"signature {sig.pk} ({sig.meaning} by {sig.printed_name}) of process "
+            f"{rev.process_id} revision {rev.number}"
+        )
         if sig.content_sha256 != rev.content_sha256:
             problems.append(Problem("signature", f"{where} is bound to other content"))
         if content_sha256(rev.content) != rev.content_sha256:
-            problems.append(Problem("signature", f"{where}: the revision content no longer "
-                                                 "hashes to what was signed"))
+            problems.append(
+                Problem(
+                    "signature",
+                    f"{where}: the revision content no longer hashes to what was signed",
+                )
+            )
         if not seal_verifies(sig):
             problems.append(Problem("seal", f"{where}: the seal does not verify"))
     return problems
@@ -203,7 +196,8 @@ def verify_signatures() -> list[Problem]:
 def _columns(cursor, table: str) -> list[str]:
     cursor.execute(
         "SELECT attname FROM pg_attribute WHERE attrelid = %s::regclass AND attnum > 0 "
-        "AND NOT attisdropped ORDER BY attnum", [f'"{table}"']
+        "AND NOT attisdropped ORDER BY attnum",
+        [f'"{table}"'],
     )
     return [row[0] for row in cursor.fetchall()]
 
@@ -232,22 +226,33 @@ def verify_records() -> list[Problem]:
                 f"OR ROW({row_o}) IS DISTINCT FROM ROW({row_e}) ORDER BY 1"
             )
             for obj_pk, pgh_id in cursor.fetchall():
-                what = "has no audit event" if pgh_id is None else (
-                    f"differs from its last audit event {pgh_id}")
-                problems.append(Problem(
-                    "record", f"{tracked._meta.label} {obj_pk} {what} (a change that "
-                              "bypassed the trail)"))
+                what = (
+                    "has no audit event"
+                    if pgh_id is None
+                    else (f"differs from its last audit event {pgh_id}")
+                )
+                problems.append(
+                    Problem(
+                        "record",
+                        f"{tracked._meta.label} {obj_pk} {what} (a change that bypassed the trail)",
+                    )
+                )
             cursor.execute(
-                f'SELECT l.pgh_obj_id FROM (SELECT DISTINCT ON (pgh_obj_id) pgh_obj_id, pgh_label '
+                f"SELECT l.pgh_obj_id FROM (SELECT DISTINCT ON (pgh_obj_id) pgh_obj_id, pgh_label "
                 f'FROM "{ev}" ORDER BY pgh_obj_id, pgh_id DESC) l '
                 f"WHERE l.pgh_label <> 'delete' AND NOT EXISTS "
                 f'(SELECT 1 FROM "{obj}" o WHERE o."{pk}" = l.pgh_obj_id) ORDER BY 1'
             )
             for (obj_pk,) in cursor.fetchall():
-                problems.append(Problem(
-                    "record", f"{tracked._meta.label} {obj_pk} was deleted without an audit event"))
+                problems.append(
+                    Problem(
+                        "record",
+                        f"{tracked._meta.label} {obj_pk} was deleted without an audit event",
+                    )
+                )
     return problems
 
 
 def verify_all() -> list[Problem]:
+    link_pending_now()
     return [*verify_chain(), *verify_signatures(), *verify_records()]

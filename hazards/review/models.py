@@ -340,7 +340,8 @@ class FindingNote(models.Model):
 
 
 class ChainLink(models.Model):
-    """One link of the hash chain over every audit event, appended by a database trigger.
+    """One link of the hash chain over every audit event, appended by a database trigger at
+    the COMMIT of the event's transaction (`hazards/review/chain_sql.py`).
 
     hash = sha256(prev_hash || payload_sha256), where payload_sha256 is the SHA-256 of the
     event table's name and the event row's JSON. Appends are serialised by an advisory lock.
@@ -363,6 +364,20 @@ class ChainLink(models.Model):
 
     def __str__(self) -> str:
         return f"link {self.seq} {self.hash[:12]}…"
+
+
+class ChainPending(models.Model):
+    """An event of a committing transaction, staged for its link (filled and emptied by the
+    chain's commit triggers inside that one transaction; a committed row was never linked)."""
+
+    id = models.BigAutoField(primary_key=True)
+    txid = models.BigIntegerField(db_index=True)
+    event_table = models.CharField(max_length=120)
+    event_id = models.BigIntegerField()
+    payload_sha256 = models.CharField(max_length=64)
+
+    def __str__(self) -> str:
+        return f"{self.event_table} event {self.event_id} awaiting its link"
 
 
 class SigningLockout(models.Model):

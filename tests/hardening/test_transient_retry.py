@@ -2,10 +2,12 @@
 again (hazards.middleware.RetryTransientDatabaseErrors); other database errors are not.
 
 These tests need requests outside any open transaction, as in production, so they use
-transactional test databases. The deadlock itself is simulated here; the load test
-(tests/hardening/test_load.py) met the real one: an API create holding the audit chain's
+transactional test databases. The deadlock itself is simulated here. The load test
+(tests/hardening/test_load.py) once met a real one: an API create holding the audit chain's
 advisory lock, checking its foreign key at COMMIT, against a page read that had locked the
-process tree FOR UPDATE and waited for that lock.
+process tree FOR UPDATE and waited for that lock. The chain now takes its lock after those
+checks (tests/review/test_chain_at_commit.py shows that cycle no longer forms); the retry
+stays for every other deadlock or serialization conflict.
 """
 
 from __future__ import annotations
@@ -48,8 +50,11 @@ def _flaky_create(monkeypatch, failures: list[Exception]):
 
 
 def _post_run(api, step):
-    return api.post("/api/v1/calorimetry-runs/",
-                    {"step": step.pk, "specific_reaction_heat": "100 kJ/kg"}, format="json")
+    return api.post(
+        "/api/v1/calorimetry-runs/",
+        {"step": step.pk, "specific_reaction_heat": "100 kJ/kg"},
+        format="json",
+    )
 
 
 def test_a_deadlock_victim_is_run_again_and_written_once(api, monkeypatch):
@@ -108,56 +113,3 @@ def test_only_deadlocks_and_serialization_failures_count_as_transient():
     unique.__cause__ = psycopg.errors.UniqueViolation("duplicate key")
     assert not middleware.transient_database_error(unique)
     assert not middleware.transient_database_error(OperationalError("connection refused"))
-
-
-def test_a_real_deadlock_with_a_process_tree_lock_is_survived(api, caplog):
-    """The load test's cycle, made on purpose on real PostgreSQL: another transaction holds
-    the step FOR UPDATE (as signing and reconciling do) and then asks for the audit chain
-    lock, which the API create took with its first audit event and holds while its foreign
-    key check at COMMIT waits for that step. PostgreSQL aborts the create (it waited first);
-    the retry waits for the other transaction and then succeeds."""
-    import threading
-    import time
-
-    from django.db import connection
-
-    from hazards.review.audit import CHAIN_LOCK_KEY
-
-    step = StepFactory()
-    params = connection.get_connection_params()
-    locked, done, errors = threading.Event(), threading.Event(), []
-
-    def other_transaction():
-        try:
-            with psycopg.connect(**params, autocommit=False) as other:
-                other.execute("SELECT 1 FROM hazards_reactionstep WHERE id = %s FOR UPDATE",
-                              [step.pk])
-                locked.set()
-                with psycopg.connect(**params, autocommit=True) as watch:
-                    for _ in range(200):  # until the create waits for our row lock
-                        waiting = watch.execute(
-                            "SELECT count(*) FROM pg_stat_activity WHERE datname = "
-                            "current_database() AND wait_event_type = 'Lock'").fetchone()[0]
-                        if waiting:
-                            break
-                        time.sleep(0.02)
-                other.execute("SELECT pg_advisory_xact_lock(%s)", [CHAIN_LOCK_KEY])
-                time.sleep(0.2)
-                other.commit()
-        except Exception as exc:  # noqa: BLE001 - reported by the test
-            errors.append(exc)
-        finally:
-            locked.set()
-            done.set()
-
-    thread = threading.Thread(target=other_transaction)
-    thread.start()
-    assert locked.wait(10)
-    with caplog.at_level("WARNING", logger="hazards.api.errors"):
-        response = _post_run(api, step)
-    thread.join(30)
-    assert done.is_set() and errors == []
-    assert response.status_code == 201, response.content
-    assert CalorimetryRun.objects.filter(step=step).count() == 1
-    assert any("deadlock" in r.getMessage() and "retried" in r.getMessage()
-               for r in caplog.records), [r.getMessage() for r in caplog.records]
