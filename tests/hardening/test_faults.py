@@ -24,7 +24,7 @@ import requests
 
 from hazards.dossier.models import Dossier
 from hazards.models import CalorimetryRun, CalorimetrySeries, ReactionStep
-from hazards.review.audit import CHAIN_LOCK_KEY, verify_all
+from hazards.review.audit import verify_all
 from hazards.review.models import ChainLink
 from tests.hardening.conftest import (
     ROOT,
@@ -55,10 +55,12 @@ def test_a_worker_killed_in_the_middle_of_a_write_leaves_nothing_and_the_retry_s
     links_before = ChainLink.objects.count()
     (worker,) = server.worker_pids()
 
-    # Hold the audit chain's lock: the upload inserts its rows, then waits in the audit
-    # trigger, in the middle of its transaction, until we let go.
+    # Hold the run's row: the upload stores its idempotency key, then waits for the row in
+    # the middle of its transaction until we let go. (Not the audit chain's lock: the chain
+    # takes it inside COMMIT, and a COMMIT under way completes even when its client is gone,
+    # as any COMMIT whose answer is lost does; the key then replays it.)
     blocker = psycopg.connect(test_database_url())
-    blocker.execute("SELECT pg_advisory_xact_lock(%s)", [CHAIN_LOCK_KEY])
+    blocker.execute("SELECT 1 FROM hazards_calorimetryrun WHERE id = %s FOR UPDATE", [run.pk])
     outcome = {}
 
     def send():
@@ -74,7 +76,7 @@ def test_a_worker_killed_in_the_middle_of_a_write_leaves_nothing_and_the_retry_s
     def waiting_backend():
         return monitor.execute(
             "SELECT pid FROM pg_stat_activity WHERE datname = current_database() "
-            "AND wait_event_type = 'Lock' AND wait_event = 'advisory'").fetchone()
+            "AND wait_event_type = 'Lock'").fetchone()
 
     wait_for(waiting_backend, what="the upload to wait inside its transaction")
     os.kill(worker, signal.SIGKILL)
