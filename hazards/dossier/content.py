@@ -288,6 +288,7 @@ def dossier_content(process: Process, revision=None) -> dict:
         else None,
         "history": history,
         "audit_head_hash": review_bridge.audit_head_hash(),
+        "audit_head": review_bridge.audit_head(),
         "revalidation": _revalidation(process),
         "provenance": _provenance(step_ids, basis, record),
         "series": _series(hashes),

@@ -150,3 +150,12 @@ def audit_head_hash() -> str | None:
     except ImportError:
         return None
     return head_hash()
+
+
+def audit_head() -> dict | None:
+    """The chain's keyed head {"seq", "hash", "mac"}: `verify` checks the chain against it."""
+    try:
+        from hazards.review.anchors import current_head
+    except ImportError:
+        return None
+    return current_head()

@@ -353,6 +353,7 @@ def dossier_view(content: dict, meta) -> dict:
         "audit_head_hash": context.get("audit_head_hash"),
         "software_text": ", ".join(f"{name} {version}" for name, version
                                    in (context.get("software") or {}).items()),
+        "audit_head": context.get("audit_head"),
         "revalidation": context.get("revalidation"),
         "references": sorted((key, cited(text))
                              for key, text in context.get("references", {}).items()),

@@ -11,12 +11,14 @@ The chain proves tampering only if its head is anchored outside the database's r
 
 from __future__ import annotations
 
-import hashlib
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
+from pathlib import Path
 
 from django.apps import apps
 from django.db import connection, transaction
 
+from hazards.review.anchors import check_heads, dossier_heads, read_head_file
 from hazards.review.chain_sql import (  # noqa: F401 - the chain's names live here too
     CHAIN_LOCK_KEY,
     COMMIT_TRIGGER_NAME,
@@ -25,11 +27,16 @@ from hazards.review.chain_sql import (  # noqa: F401 - the chain's names live he
     PENDING_TABLE,
     TRIGGER_NAME,
     install_triggers,
+    link_hash,
 )
-
-
-def link_hash(prev_hash: str, payload_sha256: str) -> str:
-    return hashlib.sha256((prev_hash + payload_sha256).encode("ascii")).hexdigest()
+from hazards.review.chain_verify import (
+    BATCH,
+    Walk,
+    load_checkpoint,
+    save_checkpoint,
+    unlinked_events,
+    walk_chain,
+)
 
 
 def event_models() -> list:
@@ -123,48 +130,41 @@ class Problem:
         return f"{self.kind}: {self.message}"
 
 
-def verify_chain() -> list[Problem]:
-    from hazards.review.models import ChainLink
+def verify_chain(
+    *,
+    head_files: Sequence[Path] = (),
+    checkpoint: Path | None = None,
+    progress: Callable[[Walk, int], None] | None = None,
+    batch: int = BATCH,
+) -> list[Problem]:
+    """The chain link by link (bounded memory, resumable from `checkpoint`), every event
+    linked, and the chain against every head it knows (dossiers and `head_files`)."""
+    link_pending_now()
+    with connection.cursor() as cursor:
+        tables = existing_event_tables(cursor)
+    walk = load_checkpoint(checkpoint) if checkpoint and checkpoint.exists() else Walk()
 
-    problems: list[Problem] = []
-    digests: dict[str, dict[int, str]] = {}
-    with transaction.atomic(), connection.cursor() as cursor:
-        cursor.execute("SET LOCAL timezone = 'UTC'; SET LOCAL extra_float_digits = 1")
-        tables = _existing_tables(cursor, [m._meta.db_table for m in event_models()])
-        for table in tables:
-            cursor.execute(
-                f'SELECT pgh_id, review_payload_digest(%s, row_to_json(e)) FROM "{table}" e',
-                [table],
-            )
-            digests[table] = dict(cursor.fetchall())
-        cursor.execute(
-            "SELECT c.relname FROM pg_trigger t JOIN pg_class c ON c.oid = t.tgrelid "
-            "WHERE t.tgname = %s AND t.tgenabled <> 'D'",
-            [TRIGGER_NAME],
-        )
-        armed = {row[0] for row in cursor.fetchall()}
-    for table in tables:
-        if table not in armed:
-            problems.append(Problem("chain", f"table {table} has no enabled chain trigger"))
-    prev = GENESIS
-    linked: set[tuple[str, int]] = set()
-    for link in ChainLink.objects.order_by("seq").iterator():
-        where = f"link {link.seq} ({link.event_table} event {link.event_id})"
-        if link.prev_hash != prev:
-            problems.append(Problem("chain", f"{where} does not follow link {link.seq - 1}"))
-        if link.hash != link_hash(link.prev_hash, link.payload_sha256):
-            problems.append(Problem("chain", f"{where} has a wrong hash"))
-        current = digests.get(link.event_table, {}).get(link.event_id)
-        if current is None:
-            problems.append(Problem("chain", f"{where}: the event row is missing"))
-        elif current != link.payload_sha256:
-            problems.append(Problem("chain", f"{where}: the event row was altered"))
-        linked.add((link.event_table, link.event_id))
-        prev = link.hash
-    for table, rows in digests.items():
-        for pgh_id in sorted(set(rows) - {pk for t, pk in linked if t == table}):
-            problems.append(Problem("chain", f"{table} event {pgh_id} is not in the chain"))
-    return problems
+    def after_batch(state: Walk, last_seq: int) -> None:
+        if checkpoint is not None:
+            save_checkpoint(checkpoint, state)
+        if progress is not None:
+            progress(state, last_seq)
+
+    walk = walk_chain(tables=tables, walk=walk, batch=batch, after_batch=after_batch)
+    found = list(walk.problems)
+    if walk.omitted:
+        found.append(f"and {walk.omitted} more problems of links not listed")
+    unlinked, total = unlinked_events(tables)
+    found.extend(unlinked)
+    if total > len(unlinked):
+        found.append(f"and {total - len(unlinked)} more events not in the chain not listed")
+    heads = dossier_heads()
+    for path in head_files:
+        file_heads, unreadable = read_head_file(Path(path))
+        heads.extend(file_heads)
+        found.extend(unreadable)
+    found.extend(check_heads(heads))
+    return [Problem("chain", message) for message in found]
 
 
 def verify_signatures() -> list[Problem]:
@@ -253,6 +253,7 @@ def verify_records() -> list[Problem]:
     return problems
 
 
-def verify_all() -> list[Problem]:
+def verify_all(**chain_options) -> list[Problem]:
+    """Every check of `manage.py verify`; `chain_options` go to `verify_chain`."""
     link_pending_now()
-    return [*verify_chain(), *verify_signatures(), *verify_records()]
+    return [*verify_chain(**chain_options), *verify_signatures(), *verify_records()]

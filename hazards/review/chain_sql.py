@@ -28,6 +28,8 @@ The key of the chain never enters the database: the keyed heads are in `anchors.
 
 from __future__ import annotations
 
+import hashlib
+
 CHAIN_LOCK_KEY = 7_345_012_026
 GENESIS = "0" * 64
 TRIGGER_NAME = "review_chain_link"
@@ -83,6 +85,11 @@ DROP_FUNCTIONS_SQL = """
 DROP FUNCTION IF EXISTS review_chain_commit() CASCADE;
 DROP FUNCTION IF EXISTS review_chain_stage() CASCADE;
 """
+
+
+def link_hash(prev_hash: str, payload_sha256: str) -> str:
+    """What the commit trigger computes for a link, in Python (for the verifier)."""
+    return hashlib.sha256((prev_hash + payload_sha256).encode("ascii")).hexdigest()
 
 
 def _constraint_trigger_sql(table: str, name: str, function: str) -> str:
