@@ -27,7 +27,7 @@ def link_at_commit(apps, schema_editor):
 
 class Migration(migrations.Migration):
     dependencies = [
-        ("review", "0003_light_review_path"),
+        ("review", "0004_finding_duties"),
     ]
 
     operations = [
