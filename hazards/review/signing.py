@@ -87,36 +87,27 @@ def printed_name(user) -> str:
     return (user.get_full_name() or "").strip() or user.get_username()
 
 
-def _locked(user) -> bool:
-    row = SigningLockout.objects.filter(user=user).first()
-    return bool(row and row.locked_until and row.locked_until > db_clock())
+class Reauthentication:
+    """Proof that `reauthenticate` accepted this person's password just now (only it makes
+    one), so that an API signature can check the password before its transaction opens."""
+
+    __slots__ = ("user_pk",)
+    _issuer = object()
+
+    def __init__(self, user_pk: int, issuer: object):
+        if issuer is not Reauthentication._issuer:
+            raise TypeError("only reauthenticate() issues a Reauthentication")
+        self.user_pk = user_pk
 
 
-def _record_failure(user) -> None:
-    # Its own transaction: the signing transaction is rolled back, this must stay.
-    with transaction.atomic():
-        now = db_clock()
-        row, _ = SigningLockout.objects.select_for_update().get_or_create(user=user)
-        row.failures += 1
-        row.last_failure_at = now
-        if row.failures >= MAX_FAILURES:
-            row.locked_until = now + dt.timedelta(minutes=LOCK_MINUTES)
-            row.failures = 0
-            log.warning("signing locked for user %s after %d wrong passwords",
-                        user.pk, MAX_FAILURES)
-        row.save()
-    log.warning("wrong password at signing by user %s", user.pk)
-
-
-def _record_success(user) -> None:
-    SigningLockout.objects.filter(user=user, failures__gt=0).update(failures=0)
-
-
-def reauthenticate(*, user, password: str | None, request) -> None:
+def reauthenticate(*, user, password: str | None, request) -> Reauthentication:
     """Refuse anything but the signer's own password, typed now, through a session.
 
-    Runs before the signing transaction opens, so that a failure is counted even though
-    nothing else of the attempt is kept.
+    The lockout is checked and counted under the lockout row's lock, with the password check
+    inside: concurrent attempts queue, so no burst of them gets more than MAX_FAILURES
+    guesses (the probe raced past the limit when the check ran before the lock). Runs in its
+    own transaction before the signing one opens, so a failure stays counted though nothing
+    else of the attempt is kept.
     """
     if getattr(request, "auth", None) is not None and isinstance(request.auth, ApiToken):
         raise NotPermitted(TOKEN_CANNOT_SIGN)
@@ -124,11 +115,28 @@ def reauthenticate(*, user, password: str | None, request) -> None:
         raise NotPermitted(SERVICE_ACCOUNT_CANNOT_SIGN)
     if not password:
         raise SignatureRefused(PASSWORD_REQUIRED, status=400)
-    if _locked(user):
-        raise Locked(SIGNING_LOCKED)
     http_request = getattr(request, "_request", request)
-    who = authenticate(request=http_request, username=user.get_username(), password=password)
-    if who is None or who.pk != user.pk:
-        _record_failure(user)
+    with transaction.atomic():
+        row, _ = SigningLockout.objects.select_for_update().get_or_create(user=user)
+        now = db_clock()
+        if row.locked_until and row.locked_until > now:
+            raise Locked(SIGNING_LOCKED)
+        who = authenticate(request=http_request, username=user.get_username(),
+                           password=password)
+        accepted = who is not None and who.pk == user.pk
+        if not accepted:
+            row.failures += 1
+            row.last_failure_at = now
+            if row.failures >= MAX_FAILURES:
+                row.locked_until = now + dt.timedelta(minutes=LOCK_MINUTES)
+                row.failures = 0
+                log.warning("signing locked for user %s after %d wrong passwords",
+                            user.pk, MAX_FAILURES)
+            row.save()
+        elif row.failures:
+            row.failures = 0
+            row.save(update_fields=["failures"])
+    if not accepted:
+        log.warning("wrong password at signing by user %s", user.pk)
         raise SignatureRefused(WRONG_PASSWORD)
-    _record_success(user)
+    return Reauthentication(user.pk, Reauthentication._issuer)

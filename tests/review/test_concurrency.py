@@ -109,3 +109,32 @@ def test_concurrent_writers_never_fork_the_audit_chain(process, author):
 
     assert sum(r["reason"].startswith("writer ") for r in record_history(step)) == 20
     assert verify_all() == []
+
+
+def test_a_burst_of_wrong_passwords_gets_no_more_guesses_than_the_lockout_allows(
+        monkeypatch):
+    # Probe of issue 18 (item 9): the lockout was checked before the row lock, so a burst
+    # of concurrent wrong passwords each passed the check and each got a guess.
+    from hazards.review import signing
+    from tests.review.factories import signing_request
+
+    person = make_user("guesser")
+    guesses = []
+    real = signing.authenticate
+
+    def slow_authenticate(**kwargs):  # a password hasher's time, widening the window
+        guesses.append(kwargs["password"])
+        import time
+
+        time.sleep(0.05)
+        return real(**kwargs)
+
+    monkeypatch.setattr(signing, "authenticate", slow_authenticate)
+    attempts = 12
+    results = at_once(*[
+        (lambda i=i: signing.reauthenticate(user=person, password=f"guess {i}",
+                                            request=signing_request(person)))
+        for i in range(attempts)])
+    assert len(guesses) == signing.MAX_FAILURES, results
+    assert results.count(E.WRONG_PASSWORD) == signing.MAX_FAILURES
+    assert results.count(E.SIGNING_LOCKED) == attempts - signing.MAX_FAILURES
