@@ -37,9 +37,11 @@ def _normalise(data):
         data.seek(0)
         return {"file": data.name, "sha256": digest.hexdigest()}
     if hasattr(data, "lists"):  # QueryDict / MultiValueDict
-        return {k: [_normalise(v) for v in vs] for k, vs in sorted(data.lists())}
+        return {k: ["(not kept)"] if k in UNHASHED_FIELDS else [_normalise(v) for v in vs]
+                for k, vs in sorted(data.lists())}
     if isinstance(data, dict):
-        return {str(k): _normalise(v) for k, v in data.items()}
+        return {str(k): "(not kept)" if k in UNHASHED_FIELDS else _normalise(v)
+                for k, v in data.items()}
     if isinstance(data, list | tuple):
         return [_normalise(v) for v in data]
     return data
@@ -122,11 +124,32 @@ def idempotent(request, handler):
     return response
 
 
-class IdempotentCreateMixin:
-    """POST (create) of a ModelViewSet honours Idempotency-Key."""
+# Body fields never kept, not even as part of a hash: a password typed to sign must not
+# leave an unsalted digest behind in the key table.
+UNHASHED_FIELDS = frozenset({"password"})
 
-    idempotent_actions = ("create",)
 
-    def create(self, request, *args, **kwargs):
-        return idempotent(request, lambda: super(IdempotentCreateMixin, self).create(
-            request, *args, **kwargs))
+class IdempotentPostMixin:
+    """Every POST of the view honours Idempotency-Key (the whole action runs inside
+    `idempotent`). Actions that call `idempotent` themselves, at the point where their effect
+    begins, are listed in `idempotent_inside` (e.g. the signing actions, which check the
+    password first so that a wrong one is counted even though the request rolls back)."""
+
+    idempotent_actions = "*"
+    idempotent_inside: tuple[str, ...] = ()
+
+    def dispatch(self, request, *args, **kwargs):
+        if request.method == "POST" and hasattr(self, "post"):
+            handler = self.post
+
+            def post(drf_request, *a, **kw):
+                if getattr(self, "action", None) in self.idempotent_inside:
+                    return handler(drf_request, *a, **kw)
+                return idempotent(drf_request, lambda: handler(drf_request, *a, **kw))
+
+            self.post = post
+        return super().dispatch(request, *args, **kwargs)
+
+
+# The name the record views used when only `create` honoured the key.
+IdempotentCreateMixin = IdempotentPostMixin

@@ -205,8 +205,8 @@ class ExoledgerAutoSchema(AutoSchema):
             elif self.method == "POST" and action == "create":
                 params.append(ETAG_HEADER)
         if self.method == "POST" and getattr(self.view, "idempotent_actions", None) and (
-            getattr(self.view, "action", None) in self.view.idempotent_actions
-            or self.view.idempotent_actions == "*"
+            self.view.idempotent_actions == "*"
+            or getattr(self.view, "action", None) in self.view.idempotent_actions
         ):
             params.append(IDEMPOTENCY_KEY)
         extra = getattr(self.view, "extra_header_parameters", {})

@@ -15,6 +15,7 @@ from rest_framework.views import APIView
 
 from hazards.api.auth import PASSWORD_EXCHANGE, issue_token
 from hazards.api.filters import TokenFilter
+from hazards.api.idempotency import IdempotentPostMixin
 from hazards.api.pagination import SingleQueryValuesMixin, StrictLimitOffsetPagination
 from hazards.lockout import client_ip, refusal_seconds
 from hazards.models import ApiToken
@@ -125,7 +126,8 @@ class ApiTokenSerializer(serializers.ModelSerializer):
         return "expired" if token.expires_at <= timezone.now() else "active"
 
 
-class ApiTokenViewSet(SingleQueryValuesMixin, viewsets.ReadOnlyModelViewSet):
+class ApiTokenViewSet(SingleQueryValuesMixin, IdempotentPostMixin,
+                      viewsets.ReadOnlyModelViewSet):
     """API tokens of all users and service accounts (never the token or its hash)."""
 
     permission_classes = [permissions.IsAuthenticated, TokenAdminPermission]

@@ -21,7 +21,7 @@ from hazards.api import exchange_api, filters, series_api
 from hazards.api import serializers as s
 from hazards.api.concurrency import ETagMixin, stale
 from hazards.api.errors import PROBLEM_TYPES
-from hazards.api.idempotency import IdempotentCreateMixin
+from hazards.api.idempotency import IdempotentPostMixin
 from hazards.api.pagination import SingleQueryValuesMixin, StrictLimitOffsetPagination
 from hazards.api.parsers import LimitedJSONParser, LimitedMultiPartParser
 from hazards.models import (
@@ -55,7 +55,7 @@ class ModelPermissions(permissions.DjangoModelPermissions):
         return "the permission " + ", ".join(f"`{p}`" for p in perms) if perms else ""
 
 
-class RecordViewSet(SingleQueryValuesMixin, IdempotentCreateMixin, ETagMixin,
+class RecordViewSet(SingleQueryValuesMixin, IdempotentPostMixin, ETagMixin,
                     viewsets.ModelViewSet):
     permission_classes = [permissions.IsAuthenticated, ModelPermissions, ProcessRolePermission]
     parser_classes = [LimitedJSONParser]
@@ -93,7 +93,7 @@ class ProcessViewSet(RecordViewSet):
     serializer_class = s.ProcessSerializer
     filterset_class = filters.ProcessFilter
     ordering_fields = ["name", "id"]
-    idempotent_actions = ("create", "import_document")
+    idempotent_inside = ("import_document",)
     extra_problems = {"import_document": {409: ["conflict"]}}
 
     @extend_schema(
@@ -170,7 +170,7 @@ class CalorimetryRunViewSet(RecordViewSet):
     serializer_class = s.CalorimetryRunSerializer
     filterset_class = filters.CalorimetryRunFilter
     ordering_fields = ["run_date", "id"]
-    idempotent_actions = ("create", "series")
+    idempotent_inside = ("series",)
     extra_problems = {"series": {400: ["series_rejected"], 409: ["conflict"]}}
 
     @extend_schema(methods=["GET"], responses={200: series_api.SeriesSerializer},

@@ -13,6 +13,7 @@ from rest_framework.routers import SimpleRouter
 from rest_framework.views import APIView
 
 from hazards.access import visible
+from hazards.api.idempotency import IdempotentPostMixin
 from hazards.api.parsers import LimitedFormParser, LimitedMultiPartParser
 from hazards.dossier.models import Dossier, DossierStatus
 from hazards.dossier.seal import verify_pdf
@@ -54,7 +55,7 @@ def _visible_dossiers(user):
     return Dossier.objects.filter(process__in=processes).defer("pdf", "content")
 
 
-class DossierViewSet(viewsets.ReadOnlyModelViewSet):
+class DossierViewSet(IdempotentPostMixin, viewsets.ReadOnlyModelViewSet):
     serializer_class = DossierSerializer
     permission_classes = [permissions.IsAuthenticated]
     lookup_value_regex = r"\d+"  # an id that is no number is no route (404), never a 500
@@ -90,7 +91,7 @@ class DossierViewSet(viewsets.ReadOnlyModelViewSet):
         return Response(DossierSerializer(dossier).data, status=status.HTTP_202_ACCEPTED)
 
 
-class ProcessDossiersView(APIView):
+class ProcessDossiersView(IdempotentPostMixin, APIView):
     """GET: the dossiers of a process; POST: request one of its latest revision."""
 
     permission_classes = [permissions.IsAuthenticated]
@@ -118,7 +119,7 @@ class ProcessDossiersView(APIView):
         return response
 
 
-class VerifyDossierView(APIView):
+class VerifyDossierView(IdempotentPostMixin, APIView):
     """Upload a PDF: is it an unaltered dossier of this system, and of which revision?"""
 
     permission_classes = [permissions.IsAuthenticated]

@@ -12,6 +12,7 @@ from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from hazards.access import is_administrator, processes_of
+from hazards.api.idempotency import IdempotentPostMixin
 from hazards.oversight import revalidation, services
 from hazards.oversight import serializers as s
 from hazards.oversight.dates import RETENTION_NOTE
@@ -65,8 +66,8 @@ class ChangeRecordViewSet(viewsets.ReadOnlyModelViewSet):
         return qs if is_administrator(user) else qs.filter(process__in=processes_of(user))
 
 
-class NotificationViewSet(mixins.ListModelMixin, mixins.RetrieveModelMixin,
-                          viewsets.GenericViewSet):
+class NotificationViewSet(IdempotentPostMixin, mixins.ListModelMixin,
+                          mixins.RetrieveModelMixin, viewsets.GenericViewSet):
     """Your inbox. `?unread=true` lists the unread ones only."""
 
     serializer_class = s.NotificationSerializer

@@ -14,6 +14,7 @@ from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from hazards.access import PROCESS_PATHS, REFERENCE_MODELS, change_reason, visible
+from hazards.api.idempotency import IdempotentPostMixin, idempotent
 from hazards.api.pagination import KeyedHistoryPagination
 from hazards.models import Process
 from hazards.review import errors as E
@@ -23,6 +24,7 @@ from hazards.review.models import Finding, ProcessRevision, ProcessRole, Signatu
 from hazards.review.services import findings as finding_services
 from hazards.review.services import revisions as rev
 from hazards.review.services import roles as role_services
+from hazards.review.signing import reauthenticate
 
 CAUTION = (" The review records a qualified assessment; the software supports it and does "
            "not replace it. Local codes and company standards prevail.")
@@ -45,8 +47,8 @@ def _visible_process(user, pk) -> Process:
     return get_object_or_404(visible(user, Process.objects.all()), pk=pk)
 
 
-class RevisionViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveModelMixin,
-                      viewsets.GenericViewSet):
+class RevisionViewSet(ReviewErrors, IdempotentPostMixin, mixins.ListModelMixin,
+                      mixins.RetrieveModelMixin, viewsets.GenericViewSet):
     """Revisions of processes under review. Signing actions take the signer's password."""
 
     serializer_class = s.RevisionSerializer
@@ -55,6 +57,7 @@ class RevisionViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveModelM
     extra_problems = {"create": {409: ["conflict"]}, "submit": _signing, "review": _signing,
                       "approve": _signing, "sign": _signing, "send_back": {409: ["conflict"]}}
     ordering_fields = ["process", "number", "id"]
+    idempotent_inside = ("submit", "review", "approve", "sign")
 
     def get_queryset(self):
         qs = ProcessRevision.objects.prefetch_related("signatures__signer",
@@ -90,12 +93,22 @@ class RevisionViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveModelM
         body = body_class(data=request.data)
         body.is_valid(raise_exception=True)
         revision = self.get_object()
-        signature = rev.revision_sign(
-            revision=revision, user=request.user, password=body.validated_data.get("password"),
-            meaning=meaning or body.validated_data["meaning"], request=request,
-            reason=body.validated_data["reason"],
-        )
-        return Response(s.SignatureSerializer(signature).data, status=status.HTTP_201_CREATED)
+        meaning = meaning or body.validated_data["meaning"]
+        # The password is checked (and a wrong one counted) before the key's transaction,
+        # which a refusal rolls back; a replay with the same key needs the password too.
+        rev.sign_precheck(revision=revision, user=request.user, meaning=meaning)
+        proof = reauthenticate(user=request.user, password=body.validated_data.get("password"),
+                               request=request)
+
+        def sign():
+            signature = rev.revision_sign(
+                revision=revision, user=request.user, password=None, meaning=meaning,
+                request=request, reason=body.validated_data["reason"], reauthenticated=proof,
+            )
+            return Response(s.SignatureSerializer(signature).data,
+                            status=status.HTTP_201_CREATED)
+
+        return idempotent(request, sign)
 
     @extend_schema(request=s.SignSerializer, responses={201: s.SignatureSerializer},
                    summary="The author signs the draft (authored) and lodges it." + CAUTION)
@@ -163,8 +176,9 @@ class SignatureViewSet(ReviewErrors, viewsets.ReadOnlyModelViewSet):
                        Signature.objects.select_related("revision", "signer").order_by("id"))
 
 
-class FindingViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveModelMixin,
-                     mixins.CreateModelMixin, mixins.UpdateModelMixin, viewsets.GenericViewSet):
+class FindingViewSet(ReviewErrors, IdempotentPostMixin, mixins.ListModelMixin,
+                     mixins.RetrieveModelMixin, mixins.CreateModelMixin, mixins.UpdateModelMixin,
+                     viewsets.GenericViewSet):
     """Findings with an owner, a due date, a status and a kind; changes need a reason.
 
     Segregation of duties: the owner adds notes and moves `status` to `ready_for_check`;
@@ -211,9 +225,9 @@ class FindingViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveModelMi
         return Response(s.FindingNoteSerializer(note).data, status=status.HTTP_201_CREATED)
 
 
-class ProcessRoleViewSet(ReviewErrors, mixins.ListModelMixin, mixins.RetrieveModelMixin,
-                         mixins.CreateModelMixin, mixins.DestroyModelMixin,
-                         viewsets.GenericViewSet):
+class ProcessRoleViewSet(ReviewErrors, IdempotentPostMixin, mixins.ListModelMixin,
+                         mixins.RetrieveModelMixin, mixins.CreateModelMixin,
+                         mixins.DestroyModelMixin, viewsets.GenericViewSet):
     """Who holds which role on which process. Administrators grant and revoke, with a reason."""
 
     serializer_class = s.ProcessRoleSerializer

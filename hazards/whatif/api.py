@@ -18,6 +18,7 @@ from rest_framework.views import APIView
 from hazards.access import visible
 from hazards.api.errors import ProblemError
 from hazards.api.fields import QuantityField
+from hazards.api.idempotency import IdempotentPostMixin
 from hazards.api.parsers import LimitedJSONParser
 from hazards.models import ReactionStep
 from hazards.quantities import QuantityError, parse_quantity
@@ -246,7 +247,7 @@ ID = OpenApiParameter("id", OpenApiTypes.INT, OpenApiParameter.PATH,
                       description="The reaction step.")
 
 
-class WhatIfView(APIView):
+class WhatIfView(IdempotentPostMixin, APIView):
     """Evaluate one dosing time and process temperature of a semi-batch step, saving nothing.
 
     The accumulation comes from the pseudo-first-order model of the desired reaction (k fitted

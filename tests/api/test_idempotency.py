@@ -67,3 +67,122 @@ def test_two_concurrent_requests_with_one_key_have_one_effect():
     assert all(r.json() == responses[0].json() for r in responses)
     assert sum(r.has_header("Idempotent-Replayed") for r in responses) == 3
     assert m.Site.objects.count() == 1 and IdempotencyKey.objects.count() == 1
+
+
+# --- every POST (issue 18 item 7): the probe's six concurrent findings with one key made six.
+
+def _review_world():
+    from tests.review.factories import assessed_process, revision_in
+
+    people = {n: make_user(n) for n in ("author", "reviewer", "approver")}
+    people["admin"] = make_user("admin-2", superuser=True)
+    process = assessed_process(author=people["author"], reviewer=people["reviewer"],
+                               approver=people["approver"])
+    return people, process, revision_in(process, "lodged", author=people["author"])
+
+
+def _session(user):
+    client = APIClient()
+    client.force_login(user)
+    return client
+
+
+@pytest.mark.django_db
+def test_every_post_of_the_schema_goes_through_the_idempotency_key(api):
+    import re
+
+    from django.urls import resolve
+
+    from hazards.api.idempotency import IdempotentPostMixin
+
+    exempt = {"/api/v1/auth/token/"}  # no user yet, and a token must never be kept
+    schema = api.get("/api/v1/schema/?format=json").json()
+    posts = [path for path, ops in schema["paths"].items() if "post" in ops]
+    missing = []
+    for path in posts:
+        view = resolve(re.sub(r"\{[^}]+\}", "1", path)).func
+        cls = getattr(view, "cls", None) or getattr(view, "view_class", None)
+        if path not in exempt and not issubclass(cls, IdempotentPostMixin):
+            missing.append(path)
+        if path not in exempt:
+            assert "Idempotency-Key" in {p["name"] for p in schema["paths"][path]["post"].get(
+                "parameters", [])}, path
+    assert len(posts) > 15 and not missing, missing
+
+
+@pytest.mark.django_db
+def test_findings_revisions_roles_send_back_and_dossiers_replay_and_refuse_another_body():
+    from hazards.dossier.models import Dossier
+    from hazards.review.models import Finding, ProcessRevision, ProcessRole
+    from tests.review.factories import assessed_process
+
+    people, process, lodged = _review_world()
+    fresh = assessed_process(author=people["author"])
+    finding = {"process": process.pk, "title": "Relief sizing", "kind": "blocking",
+               "owner": "author", "due_date": "2027-01-31"}
+    cases = [  # (who, url, body, a changed body, count of the records it makes)
+        ("reviewer", "/api/v1/findings/", finding, {**finding, "title": "Other"},
+         lambda: Finding.objects.count()),
+        ("admin", "/api/v1/process-roles/", {"process": process.pk, "user": "approver",
+                                             "role": "auditor", "reason": "second look"},
+         {"process": process.pk, "user": "approver", "role": "auditor", "reason": "x"},
+         lambda: ProcessRole.objects.count()),
+        ("author", f"/api/v1/processes/{process.pk}/dossiers/", {"reissue": True},
+         {"reissue": True, "reason": "again"}, lambda: Dossier.objects.count()),
+        ("reviewer", f"/api/v1/revisions/{lodged.pk}/send-back/", {"reason": "dosing time"},
+         {"reason": "other"}, lambda: ProcessRevision.objects.count()),
+        ("author", "/api/v1/revisions/", {"process": fresh.pk, "reason": "first"},
+         {"process": fresh.pk, "reason": "other"}, lambda: ProcessRevision.objects.count()),
+    ]
+    for who, url, body, other, count in cases:
+        client = _session(people[who])
+        first = client.post(url, body, format="json", HTTP_IDEMPOTENCY_KEY=f"k-{url}")
+        assert 200 <= first.status_code < 300, (url, first.content)
+        made = count()
+        again = client.post(url, body, format="json", HTTP_IDEMPOTENCY_KEY=f"k-{url}")
+        assert (again.status_code, again.json()) == (first.status_code, first.json()), url
+        assert again["Idempotent-Replayed"] == "true" and count() == made, url
+        changed = client.post(url, other, format="json", HTTP_IDEMPOTENCY_KEY=f"k-{url}")
+        assert changed.status_code == 422, (url, changed.content)
+        assert changed.json()["code"] == "idempotency_key_reused" and count() == made, url
+
+
+@pytest.mark.django_db
+def test_a_signature_replays_with_its_key_and_wrong_passwords_still_count():
+    from hazards.review.models import Signature, SigningLockout
+    from tests.conftest import PASSWORD
+
+    people, process, lodged = _review_world()
+    reviewer = _session(people["reviewer"])
+    url = f"/api/v1/revisions/{lodged.pk}/review/"
+    first = reviewer.post(url, {"password": PASSWORD}, format="json", HTTP_IDEMPOTENCY_KEY="s")
+    assert first.status_code == 201, first.content
+    again = reviewer.post(url, {"password": PASSWORD}, format="json", HTTP_IDEMPOTENCY_KEY="s")
+    assert again.status_code == 201 and again["Idempotent-Replayed"] == "true"
+    assert Signature.objects.filter(meaning="reviewed").count() == 1
+    # The password is never part of what the key row keeps (not even hashed).
+    assert PASSWORD not in str(list(IdempotencyKey.objects.values()))
+    # A wrong password sent with a key is counted although the request rolls back.
+    approver = _session(people["approver"])
+    for i in range(6):
+        approver.post(f"/api/v1/revisions/{lodged.pk}/approve/", {"password": "wrong"},
+                      format="json", HTTP_IDEMPOTENCY_KEY=f"w-{i}")
+    assert SigningLockout.objects.get(user=people["approver"]).locked_until is not None
+
+
+@pytest.mark.django_db(transaction=True)
+def test_six_concurrent_findings_with_one_key_make_one_finding():
+    from hazards.review.models import Finding
+
+    people, process, _ = _review_world()
+    body = {"process": process.pk, "title": "Relief sizing", "kind": "blocking",
+            "owner": "author", "due_date": "2027-01-31"}
+
+    def post(i):
+        return _session(people["reviewer"]).post("/api/v1/findings/", body, format="json",
+                                                 HTTP_IDEMPOTENCY_KEY="six")
+
+    responses = _run_threads(6, post)
+    assert [r.status_code for r in responses] == [201] * 6, [r.content for r in responses]
+    assert len({r.json()["id"] for r in responses}) == 1
+    assert Finding.objects.count() == 1 and IdempotencyKey.objects.count() == 1

@@ -44,6 +44,7 @@ from hazards.review.models import (
     Transition,
 )
 from hazards.review.signing import (
+    Reauthentication,
     compute_seal,
     db_clock,
     printed_name,
@@ -133,16 +134,30 @@ _STEPS = {
 }
 
 
-def revision_sign(*, revision: ProcessRevision, user, password: str | None, meaning: str,
-                  request, reason: str = "") -> Signature:
-    """Sign a revision with the given meaning; the signature moves it to its next state."""
+def sign_precheck(*, revision: ProcessRevision, user, meaning: str) -> None:
+    """The checks before the password: an unknown meaning, or a role the person lacks (a
+    first check without the lock, which spares a wrong password count for a pointless
+    attempt; the signing transaction checks again under the lock)."""
     if meaning not in _STEPS:
         raise E.Invalid(E.UNKNOWN_MEANING)
-    role, needed, to_state, role_error, state_error = _STEPS[meaning]
-    # A first check without the lock spares a wrong password count for a pointless attempt.
+    role, _, _, role_error, _ = _STEPS[meaning]
     if role not in roles_on(user, revision.process_id):
         raise E.NotPermitted(role_error)
-    reauthenticate(user=user, password=password, request=request)
+
+
+def revision_sign(*, revision: ProcessRevision, user, password: str | None, meaning: str,
+                  request, reason: str = "",
+                  reauthenticated: Reauthentication | None = None) -> Signature:
+    """Sign a revision with the given meaning; the signature moves it to its next state.
+
+    `reauthenticated`: the proof `reauthenticate` gave for this person just before (the API
+    checks the password before the idempotency key's transaction opens); else the password
+    is checked here."""
+    sign_precheck(revision=revision, user=user, meaning=meaning)
+    role, needed, to_state, role_error, state_error = _STEPS[meaning]
+    if not (isinstance(reauthenticated, Reauthentication)
+            and reauthenticated.user_pk == user.pk):
+        reauthenticate(user=user, password=password, request=request)
     try:
         with transaction.atomic(), pghistory.context(
             reason=reason or f"signed: {meaning}", review_action=f"sign:{meaning}"
