@@ -32,6 +32,7 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from calcs import scenario, semibatch
+from calcs.accumulation import mass_present
 from calcs.errors import CalcInputError
 
 NOT_SEMI_BATCH = "The step is a batch step: it has no dosing time to explore."
@@ -154,7 +155,8 @@ def _measured_peak_scale(row: dict, fit: semibatch.SemibatchFit) -> float:
     d = row["data"]
     q, fd = np.asarray(d["heat_release_rate_w"], float), np.asarray(d["dosed_fraction"], float)
     i = int(np.argmax(q))
-    m = row["initial_mass_kg"] + row["feed_mass_kg"] * fd[i] / fd.max()
+    # the mass actually present (a record that stops early does not hold the whole feed)
+    m = float(mass_present(fd, row["initial_mass_kg"], row["feed_mass_kg"])[i])
     m_final = row["initial_mass_kg"] + row["feed_mass_kg"]
     model = semibatch.peak_specific_heat_release(fit.total_heat_j / m_final,
                                                  fit.rate_constant_per_s, fit.dosing_time_s)

@@ -149,3 +149,18 @@ def test_recompute_reports_the_steps_whose_class_these_fixes_change():
     text = out.getvalue()
     assert f"step {step.pk} ({step.name}): class 1 -> none" in text
     assert f"    why: {MISSING}" in text
+
+
+def test_the_new_parameters_and_methods_have_words_in_page_and_dossier():
+    # common practice, no source: a reviewer reads a label and a unit, not a calcs key
+    from hazards.dossier.view import method_label, parameter_row
+
+    shown = parameter_row("td24_extrapolation_k", 108.2)
+    assert shown["label"] == "TD24 below the lowest measured temperature"
+    assert (shown["value"], shown["unit"]) == ("108.2", "K")
+    for key in ("accumulation_mass_basis", "accumulation_on_mass_present", "initial_mass_fraction",
+                "rate_constant_from_accumulation_per_s", "lowest_measured_temperature_k",
+                "tmr_extrapolation_k", "ambient_pressure_pa"):
+        assert parameter_row(key, 0.5)["label"] != key
+    for key in ("adiabatic.endothermic_no_rise", "mtsr.semi_batch.max_accumulation_mass_basis"):
+        assert method_label(key) != key

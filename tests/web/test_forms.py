@@ -159,3 +159,20 @@ def test_half_a_peak_row_is_refused_beside_the_missing_value(people, step, clien
     assert "needs both its heating rate" in error_slot(response.content.decode(),
                                                        "peak-0-peak_temperature_k")
     assert DecompositionTest.objects.filter(step=step).count() == before
+
+
+def test_the_non_volatile_declaration_and_initial_charge_are_entered_on_the_step_form(
+        people, step, client_as):
+    # issue 15 items 1 and 2: the declaration needs its basis (a database rule, shown beside
+    # the form); the initial charge is a fraction, "80 %" = 0.8 (ISO 80000-1)
+    client = client_as(people["author"])
+    response = client.post(f"/steps/{step.pk}/edit/", step_data(
+        step, non_volatile_declared="on", non_volatile_reason=""))
+    assert response.status_code == 400
+    assert "needs its basis" in response.content.decode()
+    response = client.post(f"/steps/{step.pk}/edit/", step_data(
+        step, non_volatile_declared="on", non_volatile_reason="polymer melt, no solvent",
+        initial_mass_fraction="80 %"))
+    assert response.status_code == 302
+    step.refresh_from_db()
+    assert step.non_volatile_declared and step.initial_mass_fraction == pytest.approx(0.8)
