@@ -197,6 +197,9 @@ SPECTACULAR_SETTINGS = {
     ),
     "VERSION": "1",
     "SERVE_INCLUDE_SCHEMA": False,
+    # Deliberately public (README, "The API"): the schema and its documentation describe the
+    # API's shape only, clients are generated from them, and every operation needs sign-in.
+    "SERVE_PERMISSIONS": ["rest_framework.permissions.AllowAny"],
     "SWAGGER_UI_DIST": "SIDECAR",
     "SWAGGER_UI_FAVICON_HREF": "SIDECAR",
     "REDOC_DIST": "SIDECAR",
@@ -234,6 +237,9 @@ DOSSIER_RENDER_MEMORY_BYTES = env_int(
 DOSSIER_RENDER_LEASE_SECONDS = env_int(
     "EXOLEDGER_DOSSIER_LEASE_SECONDS", DOSSIER_RENDER_TIMEOUT_SECONDS * 2 + 60, minimum=1)
 DOSSIER_RENDER_MAX_ATTEMPTS = 3
+# Dossiers a re-issue through the API may bring one process to within 24 hours (429 beyond;
+# a re-issue still queued absorbs the next ones).
+DOSSIER_REISSUES_PER_DAY = env_int("EXOLEDGER_DOSSIER_REISSUES_PER_DAY", 20, minimum=1)
 # Charts of a long dossier are drawn on this many forked processes (1: in the worker itself).
 DOSSIER_CHART_PROCESSES = env_int(
     "EXOLEDGER_DOSSIER_CHART_PROCESSES", min(os.cpu_count() or 1, 4), minimum=1)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from django.conf import settings
 from django.http import HttpResponse
 from django.shortcuts import get_object_or_404, render
 from django.urls import path
@@ -13,11 +14,17 @@ from rest_framework.routers import SimpleRouter
 from rest_framework.views import APIView
 
 from hazards.access import visible
+from hazards.api.errors import ProblemError
 from hazards.api.idempotency import IdempotentPostMixin
 from hazards.api.parsers import LimitedFormParser, LimitedMultiPartParser
 from hazards.dossier.models import Dossier, DossierStatus
 from hazards.dossier.seal import verify_pdf
-from hazards.dossier.services import NOT_RETRYABLE, dossier_request, dossier_retry
+from hazards.dossier.services import (
+    NOT_RETRYABLE,
+    ReissueLimited,
+    dossier_request,
+    dossier_retry,
+)
 from hazards.models import Process
 
 
@@ -92,9 +99,14 @@ class DossierViewSet(IdempotentPostMixin, viewsets.ReadOnlyModelViewSet):
 
 
 class ProcessDossiersView(IdempotentPostMixin, APIView):
-    """GET: the dossiers of a process; POST: request one of its latest revision."""
+    """GET: the dossiers of a process; POST: request one of its latest revision.
+
+    A re-issue while one of the same content waits in the queue returns that one (200);
+    beyond EXOLEDGER_DOSSIER_REISSUES_PER_DAY dossiers of the process in 24 hours a
+    re-issue is refused (429 with Retry-After)."""
 
     permission_classes = [permissions.IsAuthenticated]
+    extra_problems = {"post": {429: ["throttled"]}}
 
     def _process(self, request, pk):
         return get_object_or_404(visible(request.user, Process.objects.all()), pk=pk)
@@ -110,9 +122,14 @@ class ProcessDossiersView(IdempotentPostMixin, APIView):
         process = self._process(request, pk)
         body = DossierRequestSerializer(data=request.data)
         body.is_valid(raise_exception=True)
-        dossier, created = dossier_request(process=process, requested_by=request.user,
-                                           reason=body.validated_data["reason"],
-                                           reissue=body.validated_data["reissue"])
+        try:
+            dossier, created = dossier_request(
+                process=process, requested_by=request.user, reason=body.validated_data["reason"],
+                reissue=body.validated_data["reissue"],
+                max_reissues=settings.DOSSIER_REISSUES_PER_DAY)
+        except ReissueLimited as exc:
+            raise ProblemError("throttled", exc.message, headers={
+                "Retry-After": str(exc.retry_after_seconds)}) from None
         response = Response(DossierSerializer(dossier).data,
                             status=status.HTTP_202_ACCEPTED if created else status.HTTP_200_OK)
         response["Location"] = f"/api/v1/dossiers/{dossier.pk}/"

@@ -18,6 +18,19 @@ from hazards.models import Process
 logger = logging.getLogger(__name__)
 
 NOT_RETRYABLE = "Only a failed dossier can be queued again."
+REISSUE_WINDOW = timezone.timedelta(hours=24)
+REISSUE_LIMITED = ("This process has had {count} dossiers issued in the last 24 hours, the most "
+                   "a re-issue may add (EXOLEDGER_DOSSIER_REISSUES_PER_DAY); the re-issue can "
+                   "be requested again in {minutes} min.")
+
+
+class ReissueLimited(Exception):
+    """Too many re-issues of one process's dossier within REISSUE_WINDOW."""
+
+    def __init__(self, message: str, retry_after_seconds: int):
+        super().__init__(message)
+        self.message = message
+        self.retry_after_seconds = retry_after_seconds
 LOST_WORKER = "the worker rendering this dossier stopped before it finished"
 
 
@@ -28,13 +41,36 @@ def _next_id() -> int:
         return cursor.fetchone()[0]
 
 
+def _reissue_check(process: Process, content_sha: str, max_reissues: int | None):
+    """The queued re-issue of this content to coalesce with, or None; ReissueLimited when
+    the process had `max_reissues` dossiers in the window already (None: no limit)."""
+    queued = (Dossier.objects.filter(process=process, content_sha256=content_sha,
+                                     status=DossierStatus.QUEUED).order_by("-version").first())
+    if queued is not None:
+        return queued
+    if max_reissues is None:
+        return None
+    since = timezone.now() - REISSUE_WINDOW
+    recent = list(Dossier.objects.filter(process=process, created_at__gte=since)
+                  .order_by("created_at").values_list("created_at", flat=True)[:max_reissues])
+    if len(recent) >= max_reissues:
+        wait = max(1, int((recent[0] + REISSUE_WINDOW - timezone.now()).total_seconds()) + 1)
+        raise ReissueLimited(REISSUE_LIMITED.format(count=len(recent),
+                                                    minutes=(wait + 59) // 60), wait)
+    return None
+
+
 def dossier_request(*, process: Process, requested_by=None, reason: str = "",
-                    reissue: bool = False, enqueue: bool = True) -> tuple[Dossier, bool]:
+                    reissue: bool = False, enqueue: bool = True,
+                    max_reissues: int | None = None) -> tuple[Dossier, bool]:
     """A dossier of the process's latest revision: (dossier, created).
 
     The same content already issued or on its way is returned as is, unless `reissue`;
-    a new revision (new content) or a re-issue gets the next version number. The render job
-    is enqueued in the same transaction, so a rolled-back request leaves no job behind.
+    a new revision (new content) or a re-issue gets the next version number. A re-issue
+    while one of the same content still waits in the queue gets that one (coalesced), and
+    `max_reissues` (the API passes EXOLEDGER_DOSSIER_REISSUES_PER_DAY) bounds the dossiers a
+    re-issue may bring a process to within 24 hours (ReissueLimited). The render job is
+    enqueued in the same transaction, so a rolled-back request leaves no job behind.
     """
     with transaction.atomic():
         # Serialises version numbers per process.
@@ -46,6 +82,10 @@ def dossier_request(*, process: Process, requested_by=None, reason: str = "",
                     .exclude(status=DossierStatus.FAILED).order_by("-version").first())
         if existing is not None and not reissue:
             return existing, False
+        if reissue:
+            coalesced = _reissue_check(locked, content_sha, max_reissues)
+            if coalesced is not None:
+                return coalesced, False
         last = Dossier.objects.filter(process=locked).order_by("-version").first()
         version = (last.version + 1) if last else 1
         pk = _next_id()

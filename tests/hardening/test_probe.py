@@ -170,3 +170,49 @@ def test_verify_answers_a_pdf_relabelled_with_a_hidden_dossier_as_a_foreign_pdf(
     assert seen["process"] == people["process"].name and seen["seal_valid"] is True
     malformed = _verify(stranger, _sealed_pdf(dossier_id="9" * 30, **args))
     assert malformed["is_dossier"] is False
+
+
+@pytest.mark.django_db
+def test_reissues_coalesce_while_queued_and_are_limited_per_process(people, settings):
+    # Probe of issue 18 (item 9): re-issues were unlimited, each a new render job.
+    from hazards.dossier.models import Dossier
+
+    settings.DOSSIER_REISSUES_PER_DAY = 3
+    author = _client(people["author"])
+    url = f"/api/v1/processes/{people['process'].pk}/dossiers/"
+    first = author.post(url, {"reason": "committee"}, format="json")
+    assert first.status_code == 202, first.content
+    # Re-issues while the first still waits in the queue are that one (no new job).
+    for _ in range(5):
+        again = author.post(url, {"reissue": True}, format="json")
+        assert again.status_code == 200 and again.json()["id"] == first.json()["id"]
+    assert Dossier.objects.count() == 1
+    # Rendered (here: failed, as a worker would leave it) each time, re-issues add versions
+    # up to the limit, then a 429 problem that says when to try again.
+    answers = []
+    for _ in range(4):
+        Dossier.objects.filter(status="queued").update(status="failed")
+        answers.append(author.post(url, {"reissue": True, "reason": "copy"}, format="json"))
+    assert [a.status_code for a in answers] == [202, 202, 429, 429]
+    refused = answers[-1]
+    assert refused["Content-Type"] == "application/problem+json"
+    assert refused.json()["code"] == "throttled" and "24 hours" in refused.json()["detail"]
+    assert 0 < int(refused["Retry-After"]) <= 24 * 3600 + 1
+    assert Dossier.objects.count() == 3
+
+
+@pytest.mark.django_db
+def test_the_schema_and_its_documentation_are_public_and_hold_no_records(people, anon_api):
+    # A decision (issue 18 item 9), documented in the README: the schema is the contract that
+    # clients are generated from, as the fuzz test and generators fetch it; it describes the
+    # shape of the API only, while every operation in it needs sign-in (test_access.py).
+    # OWASP API Security Top 10 (2023) API9 asks that documentation be kept current and its
+    # exposure be a choice; this is that choice.
+    schema = anon_api.get("/api/v1/schema/?format=json")
+    docs = anon_api.get("/api/v1/docs/")
+    assert schema.status_code == 200 and docs.status_code == 200
+    text = schema.content.decode()
+    for private in (people["process"].name, people["author"].get_full_name(),
+                    people["reviewer"].email):
+        assert private not in text
+    assert "Local codes, company standards" in docs.content.decode()
