@@ -8,7 +8,7 @@ from pathlib import Path
 
 from django.core.exceptions import ImproperlyConfigured
 
-from hazards.db import database_settings
+from hazards.db import data_dir, database_settings
 from hazards.env import env_bool, env_int, env_list, env_str
 
 BASE_DIR = Path(__file__).resolve().parent.parent
@@ -104,6 +104,18 @@ TEMPLATES = [
 ]
 
 DATABASES = {"default": database_settings()}
+
+# The step page's charts, keyed by the inputs they are drawn from (hazards.web.indicators):
+# one file per key, shared by every worker on the host, the oldest dropped past MAX_ENTRIES.
+CACHES = {
+    "default": {"BACKEND": "django.core.cache.backends.locmem.LocMemCache"},
+    "charts": {
+        "BACKEND": "django.core.cache.backends.filebased.FileBasedCache",
+        "LOCATION": str(data_dir() / "cache" / "charts"),
+        "TIMEOUT": 30 * 24 * 3600,
+        "OPTIONS": {"MAX_ENTRIES": 5000},
+    },
+}
 DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
 
 PASSWORD_HASHERS = [

@@ -79,7 +79,7 @@ def step_detail(request, pk):
     tests = list(DecompositionTest.objects.filter(step=step).prefetch_related("peaks"))
     basis_run = next((r for r in runs if r.pk == basis.get("calorimetry_run")), None)
     basis_test = next((t for t in tests if t.pk == basis.get("decomposition_test")), None)
-    series = (CalorimetrySeries.objects.filter(run=basis_run).first()
+    series = (CalorimetrySeries.objects.filter(run=basis_run).defer("original").first()
               if basis_run is not None else None)
     groups = [
         ("The step", step, indicators.input_rows(step), f"/steps/{step.pk}/edit/"),
@@ -105,7 +105,9 @@ def step_detail(request, pk):
         "charts": indicators.chart_images(snapshot, {
             **series.data, "initial_mass_kg": series.initial_mass_kg,
             "feed_mass_kg": series.feed_mass_kg, "file_name": series.file_name,
-        } if series else None),
+        } if series else None, series_key=(
+            f"{series.pk}:{series.sha256}:{series.initial_mass_kg!r}:{series.feed_mass_kg!r}:"
+            f"{series.file_name}" if series else "")),
         "history": history, "can_edit": can_edit(request.user, step),
         "can_edit_reference": is_administrator(request.user),
         "shows_indicators": True,

@@ -117,3 +117,25 @@ def test_the_class_filter_is_a_semi_join_on_a_current_snapshot_index(people, pro
     assert "Semi Join" in plan or "Anti Join" in plan, plan
     snapshot_lines = [line for line in plan.splitlines() if "hazards_indicatorsnapshot" in line]
     assert snapshot_lines and all("Index" in line for line in snapshot_lines), plan
+
+
+def test_the_step_page_draws_its_charts_once_per_set_of_inputs(people, step, client_as,
+                                                               monkeypatch):
+    from django.core.cache import caches
+
+    from hazards.dossier import charts
+
+    caches["charts"].clear()
+    drawn = []
+    real = charts.step_charts
+    monkeypatch.setattr(charts, "step_charts",
+                        lambda *a, **k: drawn.append(1) or real(*a, **k))
+    client = client_as(people["reviewer"])
+    first = client.get(f"/steps/{step.pk}/").content.decode()
+    assert drawn == [1] and "data:image/svg+xml;base64," in first
+    again = client.get(f"/steps/{step.pk}/").content.decode()
+    assert drawn == [1] and again.count("data:image/svg+xml") == first.count("data:image/svg+xml")
+    step.reaction_mass_kg *= 1.2  # new inputs, new numbers: drawn again
+    step.save()
+    client.get(f"/steps/{step.pk}/")
+    assert drawn == [1, 1]

@@ -49,7 +49,14 @@ class Command(BaseCommand):
         argv = [gunicorn, "hazards.wsgi:application", "--bind", bind, "--workers", str(workers),
                 "--timeout", "60", "--graceful-timeout", "20", "--access-logfile", "-"]
         os.environ.setdefault("DJANGO_SETTINGS_MODULE", settings.SETTINGS_MODULE)
-        raise SystemExit(supervise(argv, worker_argv()))
+        raise SystemExit(supervise(argv, worker_argv(), others=(housekeeping_argv(),)))
+
+
+def housekeeping_argv() -> list[str]:
+    """The periodic sweep: lost jobs recovered within a minute of their lease, the recompute
+    queue vacuumed, old snapshots pruned (hazards.services.housekeeping)."""
+    manage = os.path.join(settings.BASE_DIR, "manage.py")
+    return [sys.executable, manage, "housekeeping", "--every", "60"]
 
 
 def worker_argv() -> list[str]:
@@ -59,18 +66,20 @@ def worker_argv() -> list[str]:
             "--no-reload"]
 
 
-def supervise(web_argv: list[str], worker: list[str], *, grace: float = 20.0) -> int:
-    """Run gunicorn and one worker; forward SIGINT/SIGTERM/SIGHUP to both; when gunicorn
-    exits, stop the worker (SIGTERM, then SIGKILL after `grace` s) and return its status."""
+def supervise(web_argv: list[str], worker: list[str], *, grace: float = 20.0,
+              others: tuple[list[str], ...] = ()) -> int:
+    """Run gunicorn, one worker and the `others` (the housekeeping sweep); forward
+    SIGINT/SIGTERM/SIGHUP to them; when gunicorn exits, stop the rest (SIGTERM, then SIGKILL
+    after `grace` s) and return its status. A background process that dies is started again."""
     web = subprocess.Popen(web_argv)
-    background = subprocess.Popen(worker)
-    children = (web, background)
+    commands = [worker, *others]
+    background = [subprocess.Popen(argv) for argv in commands]
 
     def forward(signum, frame):
-        for child in children:
+        for child in (web, *background):
             if child.poll() is None:
-                # SIGHUP reloads gunicorn; the worker has no reload, so it is left alone.
-                if signum == signal.SIGHUP and child is background:
+                # SIGHUP reloads gunicorn; the others have no reload, so they are left alone.
+                if signum == signal.SIGHUP and child is not web:
                     continue
                 child.send_signal(signum)
 
@@ -81,19 +90,21 @@ def supervise(web_argv: list[str], worker: list[str], *, grace: float = 20.0) ->
             code = web.poll()
             if code is not None:
                 break
-            if background.poll() is not None:
-                # A worker that died (e.g. the database restarted) is started again.
-                background = subprocess.Popen(worker)
-                children = (web, background)
+            for i, child in enumerate(background):
+                if child.poll() is not None:
+                    # A worker that died (e.g. the database restarted) is started again.
+                    background[i] = subprocess.Popen(commands[i])
             time.sleep(0.5)
     finally:
         for sig, handler in previous.items():
             signal.signal(sig, handler)
-        if background.poll() is None:
-            background.terminate()
+        for child in background:
+            if child.poll() is None:
+                child.terminate()
+        for child in background:
             try:
-                background.wait(timeout=grace)
+                child.wait(timeout=grace)
             except subprocess.TimeoutExpired:
-                background.kill()
-                background.wait()
+                child.kill()
+                child.wait()
     return code
