@@ -76,7 +76,14 @@ class InputModel(models.Model):
 
 
 def tracked(**kwargs):
-    """Audit every insert, update and delete of a model in an append-only event table."""
+    """Audit every insert, update and delete of a model in an append-only event table.
+
+    The event table gets an index of (record, event id): a history page looks up the event
+    before each row it shows (for "from -> to") through it, instead of reading every event of
+    a record that has tens of thousands."""
+    meta = dict(kwargs.pop("meta", None) or {})
+    meta.setdefault("indexes", [models.Index(fields=["pgh_obj", "pgh_id"])])
     return pghistory.track(
-        pghistory.InsertEvent(), pghistory.UpdateEvent(), pghistory.DeleteEvent(), **kwargs
+        pghistory.InsertEvent(), pghistory.UpdateEvent(), pghistory.DeleteEvent(), meta=meta,
+        **kwargs
     )

@@ -9,7 +9,7 @@
 - The recompute queue: every write inserts and deletes its rows in its own transaction, so
   the table holds no live row between transactions but gathers dead ones; it is vacuumed here
   whatever the server's autovacuum does (it may be off), and its own autovacuum thresholds
-  are low (migration 0007) for servers where it is on.
+  are low (migration 0008) for servers where it is on.
 - Superseded indicator snapshots (every forced recompute adds one per step) are pruned by
   `SNAPSHOT_RETENTION`.
 """

@@ -90,3 +90,24 @@ def test_the_count_is_exact_up_to_the_bound_and_null_beyond(process, auditor, mo
 def test_a_foreign_cursor_is_refused_naming_the_field(process, auditor):
     resp = client_for(auditor).get(f"/api/v1/processes/{process.pk}/history/?cursor=older.xyz")
     assert resp.status_code == 400 and resp.json()["errors"][0]["field"] == "cursor"
+
+
+def test_the_event_before_a_row_is_found_through_the_record_index(process):
+    from django.db import transaction
+
+    from hazards.review.selectors import event_model_for
+
+    _edit(process, 3)
+    events = event_model_for(Process).objects
+    prev = events.filter(pgh_obj_id=process.pk, pgh_id__lt=10**9).order_by("-pgh_id")[:1]
+    sql, params = prev.query.sql_with_params()
+    with transaction.atomic(), connection.cursor() as cursor:
+        for setting in ("enable_seqscan", "enable_bitmapscan", "enable_sort"):
+            cursor.execute(f"SET LOCAL {setting} = off")  # as for a record of 50 000 events
+        cursor.execute("EXPLAIN " + sql, params)
+        plan = "\n".join(row[0] for row in cursor.fetchall())
+    # Both conditions bound the index scan (record, event id): no event of the record is
+    # read beyond the one wanted, and nothing is sorted.
+    cond = [line for line in plan.splitlines() if "Index Cond" in line]
+    assert cond and "pgh_obj_id" in cond[0] and "pgh_id <" in cond[0], plan
+    assert "Sort" not in plan, plan

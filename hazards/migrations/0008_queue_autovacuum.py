@@ -9,7 +9,7 @@ TABLE = "hazards_pendingrecompute"
 
 
 class Migration(migrations.Migration):
-    dependencies = [("hazards", "0006_list_orderings")]
+    dependencies = [("hazards", "0007_step_edges_inputs")]
 
     operations = [
         migrations.RunSQL(
