@@ -69,28 +69,49 @@ def one_write(step, mass: float) -> None:
     record_update(instance=step, data={"reaction_mass_kg": mass}, expected_version=step.version)
 
 
-def serialised_sections(step, count: int) -> tuple[list[float], list[float]]:
-    """(serialised section, whole write) in ms, one writer."""
-    from django.db import connection
+def serialised_sections(step, count: int) -> tuple[list[float], list[float], list[float]]:
+    """Per write, one writer, in ms: (serialised section, COMMIT round trip, whole write).
 
-    held, whole = [], []
-    for i in range(count):
-        with connection.cursor() as cursor:
-            cursor.execute("SELECT coalesce(max(seq), 0) FROM review_chainlink")
-            (last,) = cursor.fetchone()
+    The section ends with the COMMIT, which releases the lock: it is the time from the first
+    link (in the database's clock, just after the lock was taken) to the end of the body
+    (a clock reading sent just before COMMIT), plus the COMMIT's round trip. Linked at
+    COMMIT, the first link is made inside the COMMIT and that difference is negative: the
+    section is the part of the COMMIT after the lock (the append and the WAL flush)."""
+    from django.db import connections
+
+    connection = connections["default"]
+    held, commits, whole = [], [], []
+    marks: dict = {}
+    real_commit = type(connection)._commit
+
+    def timed_commit(self):
+        with self.cursor() as cursor:
             cursor.execute("SELECT clock_timestamp()")
-            (start,) = cursor.fetchone()
-        one_write(step, 4000.0 + i % 50)
-        with connection.cursor() as cursor:
-            cursor.execute(
-                "SELECT clock_timestamp(), (SELECT min(linked_at) FROM "
-                "review_chainlink WHERE seq > %s)",
-                [last],
-            )
-            end, first_link = cursor.fetchone()
-        held.append((end - first_link).total_seconds() * 1e3)
-        whole.append((end - start).total_seconds() * 1e3)
-    return held, whole
+            (marks["body_end"],) = cursor.fetchone()
+        started = time.perf_counter()
+        real_commit(self)
+        marks["commit_ms"] = (time.perf_counter() - started) * 1e3
+
+    type(connection)._commit = timed_commit
+    try:
+        for i in range(count):
+            with connection.cursor() as cursor:
+                cursor.execute("SELECT coalesce(max(seq), 0) FROM review_chainlink")
+                (last,) = cursor.fetchone()
+            started = time.perf_counter()
+            one_write(step, 4000.0 + i % 50)
+            whole.append((time.perf_counter() - started) * 1e3)
+            with connection.cursor() as cursor:
+                cursor.execute("SELECT min(linked_at) FROM review_chainlink WHERE seq > %s", [last])
+                (first_link,) = cursor.fetchone()
+            # Negative when the first link is made inside the COMMIT: what the COMMIT did
+            # before taking the lock (staging the events, the deferred checks) is left out.
+            body_after_lock = (marks["body_end"] - first_link).total_seconds() * 1e3
+            held.append(body_after_lock + marks["commit_ms"])
+            commits.append(marks["commit_ms"])
+    finally:
+        type(connection)._commit = real_commit
+    return held, commits, whole
 
 
 def _writer(step_id: int, seconds: float, start_at: float, out) -> None:
@@ -156,12 +177,13 @@ def main(argv: list[str] | None = None) -> int:
         for design in ("before", "after"):
             use_design(design)
             one_write(steps[0], 4500.0)  # warm up
-            held, whole = serialised_sections(steps[0], args.samples)
+            held, commits, whole = serialised_sections(steps[0], args.samples)
             rates = {n: throughput(steps[1:], n, args.seconds) for n in counts}
             results[design] = (statistics.median(held), statistics.median(whole), rates)
             print(
                 f"{design:>6}: serialised section median {results[design][0]:.2f} ms of a "
-                f"{results[design][1]:.2f} ms write; writes/s "
+                f"{results[design][1]:.2f} ms write (of which the COMMIT round trip "
+                f"{statistics.median(commits):.2f} ms); writes/s "
                 + ", ".join(f"{n}: {r:.1f}" for n, r in rates.items()),
                 flush=True,
             )
