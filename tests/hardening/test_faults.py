@@ -100,6 +100,67 @@ def test_a_worker_killed_in_the_middle_of_a_write_leaves_nothing_and_the_retry_s
     assert verify_all() == []
 
 
+def test_a_worker_killed_while_a_finding_post_waits_keeps_no_finding_and_the_key_retries(
+        world, serve):
+    # Issue 18 item 7: findings honour Idempotency-Key like the records, under faults too.
+    from hazards.api.auth import issue_token
+    from hazards.review.models import Finding
+    from hazards.review.services.roles import role_grant
+    from tests.conftest import make_user
+
+    me = world["mine"]
+    reviewer = make_user("fault-reviewer")
+    role_grant(process=me["process"], user=reviewer, role="reviewer", granted_by=None,
+               reason="fault test set-up")
+    token = issue_token(user=reviewer)
+    server = serve(workers=1)
+    (worker,) = server.worker_pids()
+    body = {"process": me["process"].pk, "title": "Relief sizing basis", "kind": "blocking",
+            "owner": me["user"].username, "due_date": "2027-01-31"}
+
+    def post():
+        return requests.post(f"{server.url}/api/v1/findings/", json=body, timeout=30,
+                             headers={**auth(token), "Idempotency-Key": "kill-finding"})
+
+    # Hold the process row: the finding's foreign key waits for it after the key is stored.
+    blocker = psycopg.connect(test_database_url())
+    blocker.execute("SELECT 1 FROM hazards_process WHERE id = %s FOR UPDATE",
+                    [me["process"].pk])
+    outcome = {}
+
+    def send():
+        try:
+            outcome["response"] = post()
+        except requests.RequestException as exc:
+            outcome["error"] = exc
+
+    thread = threading.Thread(target=send)
+    thread.start()
+    monitor = psycopg.connect(test_database_url(), autocommit=True)
+
+    def waiting_backend():
+        return monitor.execute(
+            "SELECT pid FROM pg_stat_activity WHERE datname = current_database() "
+            "AND wait_event_type = 'Lock'").fetchone()
+
+    wait_for(waiting_backend, what="the finding POST to wait inside its transaction")
+    os.kill(worker, signal.SIGKILL)
+    thread.join(timeout=30)
+    assert "error" in outcome, f"the client got an answer: {outcome.get('response')}"
+    blocker.rollback()
+    blocker.close()
+    wait_for(lambda: waiting_backend() is None, what="the dead request's backend to go")
+    monitor.close()
+    assert not Finding.objects.exists()
+    wait_for(lambda: server.worker_pids() and server.worker_pids() != [worker],
+             what="a new gunicorn worker")
+    first, again = post(), post()
+    assert (first.status_code, again.status_code) == (201, 201), first.text
+    assert again.headers.get("Idempotent-Replayed") == "true"
+    assert Finding.objects.count() == 1
+    assert verify_all() == []
+
+
 def _edit_until(base, token, step, stop: threading.Event, log: list):
     """PATCH the step again and again (GET for the ETag first); every answer is logged."""
     session = requests.Session()
