@@ -163,7 +163,8 @@ def unit_slip_warnings(s: Any, out: dict[str, Any]) -> list[str]:
             _warn(
                 "td24_k",
                 _c(td),
-                "is near or below room temperature",
+                "is near or below room temperature (real for some organic peroxides and diazo "
+                "compounds; otherwise a slip is likely)",
                 "E_a in J/mol against kJ/mol, or the reference heat-release rate in W "
                 "or W/g against W/kg",
             )
