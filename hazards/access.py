@@ -113,11 +113,15 @@ def can_edit_process(user, process_id) -> bool:
 
 
 def under_review(process_id) -> bool:
-    """True when the process's data have been signed by someone (so changes need a reason)."""
-    from hazards.review.models import SIGNED_STATES, ProcessRevision
+    """True when the process's data have been signed by someone or were ever approved (so
+    changes need a reason): a revision is lodged, checked or endorsed, or an earlier one
+    carries an approval (the plant runs on approved data while changes collect in a draft)."""
+    from hazards.review.models import SIGNED_STATES, Meaning, ProcessRevision, Signature
 
     return ProcessRevision.objects.filter(
         process_id=process_id, state__in=[s.value for s in SIGNED_STATES]
+    ).exists() or Signature.objects.filter(
+        revision__process_id=process_id, meaning=Meaning.APPROVED
     ).exists()
 
 

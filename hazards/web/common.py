@@ -4,11 +4,10 @@ from __future__ import annotations
 
 from contextlib import contextmanager
 
-import pghistory
 from django.core.exceptions import PermissionDenied
 from django.shortcuts import get_object_or_404
 
-from hazards import access
+from hazards import access, trail
 from hazards.models import Process
 
 NOT_YOURS = "You hold no role on this process that allows this change."
@@ -69,7 +68,7 @@ def reference_needs_reason(obj) -> bool:
 def audit_reason(reason: str):
     """Put the reason of a change into the audit trail's context (pghistory)."""
     if reason:
-        with pghistory.context(reason=reason):
+        with trail.scope(reason=reason):
             yield
     else:
         yield

@@ -16,13 +16,13 @@ import io
 import os
 import re
 
-import pghistory
 from django import forms
 from django.contrib import messages
 from django.contrib.auth.decorators import login_required
 from django.db import transaction
 from django.shortcuts import redirect, render
 
+from hazards import trail
 from hazards.forms import QuantityFormField
 from hazards.models import CalorimetryRun, CalorimetrySeries, ReactionStep
 from hazards.quantities import size_text
@@ -235,7 +235,7 @@ def confirm(request, pk):
         reason += f"; original file SHA-256 {original}"
     analysis = context["analysis"]
     try:
-        with transaction.atomic(), pghistory.context(reason=reason[:1000]):
+        with transaction.atomic(), trail.scope(reason=reason[:1000]):
             if run is None:
                 run = record_create(model=CalorimetryRun, data={
                     "step": step, "instrument": pending.get("instrument") or "",

@@ -34,6 +34,7 @@ import numpy as np
 from calcs import scenario, semibatch
 from calcs.accumulation import mass_present
 from calcs.errors import CalcInputError
+from hazards import trail
 
 NOT_SEMI_BATCH = "The step is a batch step: it has no dosing time to explore."
 NO_MODEL_DATA = ("The step has neither a calorimetry series that supports the model nor an "
@@ -350,7 +351,6 @@ def apply_point(*, step, user, dosing_time_s: float, process_temperature_k: floa
     transaction and marks an approved step `needs_review`; the review layer replaces the
     signed revisions whose content changed and opens the next draft. Nothing is signed here.
     """
-    import pghistory
 
     from hazards.access import can_edit_process
     from hazards.services.records import record_update
@@ -361,7 +361,7 @@ def apply_point(*, step, user, dosing_time_s: float, process_temperature_k: floa
     if not reason:
         raise WhatIfRefused("reason", APPLY_REASON_REQUIRED)
     _check_point(dosing_time_s, process_temperature_k)
-    with pghistory.context(reason=f"what-if: {reason}"):
+    with trail.scope(reason=f"what-if: {reason}"):
         return record_update(instance=step, data={"dosing_time_s": dosing_time_s,
                                                   "process_temperature_k": process_temperature_k},
                              expected_version=expected_version)

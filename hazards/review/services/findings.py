@@ -12,9 +12,9 @@ from __future__ import annotations
 
 import datetime as dt
 
-import pghistory
 from django.db import transaction
 
+from hazards import trail
 from hazards.access import roles_on
 from hazards.review import errors as E
 from hazards.review.models import (
@@ -43,7 +43,7 @@ def finding_raise(*, process, user, title: str, kind: str, owner, due_date: dt.d
         raise E.Invalid(E.OWNER_HAS_NO_ROLE)
     if revision is not None and revision.process_id != process.pk:
         raise E.Invalid("The revision belongs to another process.")
-    with transaction.atomic(), pghistory.context(reason=reason or "finding raised",
+    with transaction.atomic(), trail.scope(reason=reason or "finding raised",
                                                  review_action="finding_raise"):
         finding = Finding(process=process, revision=revision, title=title,
                           description=description, kind=kind, owner=owner, due_date=due_date,
@@ -78,7 +78,7 @@ def finding_note(*, finding: Finding, user, text: str) -> FindingNote:
     text = (text or "").strip()
     if not text:
         raise E.Invalid(E.NOTE_REQUIRED)
-    with transaction.atomic(), pghistory.context(reason=text[:200],
+    with transaction.atomic(), trail.scope(reason=text[:200],
                                                  review_action="finding_note"):
         finding = Finding.objects.select_for_update().get(pk=finding.pk)
         if not may_note(user, finding):
@@ -124,7 +124,7 @@ def finding_update(*, finding: Finding, user, reason: str, **changes) -> Finding
     for name in changes:
         if name not in CHANGEABLE:
             raise E.Invalid(f"{name} cannot be changed.")
-    with transaction.atomic(), pghistory.context(reason=reason, review_action="finding_update"):
+    with transaction.atomic(), trail.scope(reason=reason, review_action="finding_update"):
         finding = Finding.objects.select_for_update().get(pk=finding.pk)
         roles = roles_on(user, finding.process_id)
         # A full PUT repeats what it does not change; only real changes are judged.

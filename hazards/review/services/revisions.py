@@ -21,10 +21,10 @@ Leaving a revision by sending it back or replacing it opens the next draft of th
 
 from __future__ import annotations
 
-import pghistory
 from django.db import transaction
 from django.db.models import Max
 
+from hazards import trail
 from hazards.access import roles_on
 from hazards.models import CalorimetryRun, DecompositionTest, Process, ReactionStep
 from hazards.review import errors as E
@@ -112,7 +112,7 @@ def revision_open(*, process: Process, user, reason: str = "") -> ProcessRevisio
     """Open the next draft revision of a process (an author's step)."""
     if Role.AUTHOR not in roles_on(user, process.pk):
         raise E.NotPermitted(E.NOT_AN_AUTHOR)
-    with transaction.atomic(), pghistory.context(reason=reason or "revision opened",
+    with transaction.atomic(), trail.scope(reason=reason or "revision opened",
                                                  review_action="open"):
         list(Process._base_manager.select_for_update().filter(pk=process.pk).values_list("pk"))
         if Role.AUTHOR not in roles_on(user, process.pk):
@@ -159,7 +159,7 @@ def revision_sign(*, revision: ProcessRevision, user, password: str | None, mean
             and reauthenticated.user_pk == user.pk):
         reauthenticate(user=user, password=password, request=request)
     try:
-        with transaction.atomic(), pghistory.context(
+        with transaction.atomic(), trail.scope(
             reason=reason or f"signed: {meaning}", review_action=f"sign:{meaning}"
         ):
             return _sign_locked(revision.pk, user, meaning, role, needed, to_state,
@@ -252,7 +252,7 @@ def revision_send_back(*, revision: ProcessRevision, user, reason: str) -> Proce
     """A reviewer or approver returns a revision to its author; returns the new draft."""
     if not (reason or "").strip():
         raise E.Invalid(E.REASON_REQUIRED)
-    with transaction.atomic(), pghistory.context(reason=reason, review_action="send_back"):
+    with transaction.atomic(), trail.scope(reason=reason, review_action="send_back"):
         revision = ProcessRevision.objects.select_for_update().get(pk=revision.pk)
         roles = roles_on(user, revision.process_id)
         allowed = {ReviewState.LODGED: {Role.REVIEWER, Role.APPROVER},
@@ -273,7 +273,7 @@ def revision_send_back(*, revision: ProcessRevision, user, reason: str) -> Proce
 def revisions_reconcile(*, process: Process, reason: str = "") -> list[ProcessRevision]:
     """Replace every signed revision whose content no longer matches the process, open the
     next draft if none is open, and refresh an open draft. Returns the revisions replaced."""
-    with transaction.atomic(), pghistory.context(
+    with transaction.atomic(), trail.scope(
         reason=reason or REPLACED_BECAUSE_CHANGED, review_action="reconcile"
     ):
         revisions = list(

@@ -2,9 +2,9 @@
 
 from __future__ import annotations
 
-import pghistory
 from django.db import transaction
 
+from hazards import trail
 from hazards.access import is_administrator
 from hazards.review import errors as E
 from hazards.review.models import ProcessRole, Role
@@ -21,7 +21,7 @@ def role_grant(*, process, user, role: str, granted_by, reason: str) -> ProcessR
         raise E.Invalid(E.REASON_REQUIRED)
     if role not in Role.values:
         raise E.Invalid(f"Unknown role {role!r}.")
-    with transaction.atomic(), pghistory.context(reason=reason, review_action="role_grant"):
+    with transaction.atomic(), trail.scope(reason=reason, review_action="role_grant"):
         grant, _ = ProcessRole.objects.get_or_create(
             process=process, user=user, role=role, defaults={"granted_by": granted_by}
         )
@@ -33,5 +33,5 @@ def role_revoke(*, grant: ProcessRole, revoked_by, reason: str) -> None:
         raise E.NotPermitted(E.ONLY_ADMINISTRATORS)
     if not (reason or "").strip():
         raise E.Invalid(E.REASON_REQUIRED)
-    with transaction.atomic(), pghistory.context(reason=reason, review_action="role_revoke"):
+    with transaction.atomic(), trail.scope(reason=reason, review_action="role_revoke"):
         ProcessRole.objects.filter(pk=grant.pk).delete()
