@@ -25,8 +25,9 @@ def scope(**metadata):
         with pghistory.context(**metadata):
             yield
         return
-    runtime._tracker.value = runtime.Context(id=uuid.uuid4(),
-                                             metadata={**outer.metadata, **metadata})
+    runtime._tracker.value = runtime.Context(
+        id=uuid.uuid4(), metadata={**outer.metadata, **metadata}
+    )
     try:
         yield
     finally:

@@ -282,6 +282,7 @@ def dossier_content(process: Process, revision=None) -> dict:
         "process": {"id": process.pk, "name": process.name, "description": process.description,
                     "site": {"code": process.site.code, "name": process.site.name}},
         "revision": revision_info,
+        "approval": review_bridge.approval(process),
         "signatures": signatures,
         "findings": review_bridge.findings(process, revision),
         "last_approved": {k: v for k, v in since.items() if k != "created_at_dt"} if since

@@ -49,6 +49,15 @@ def live_content(process) -> dict | None:
     return revision_content(process)
 
 
+def approval(process) -> dict | None:
+    """Which revision is in force and what is pending (review's `approval_status`)."""
+    if _model("ProcessRevision") is None:
+        return None
+    from hazards.review.selectors import approval_status
+
+    return approval_status(process)
+
+
 def revision_info(revision) -> dict:
     state = getattr(revision, "state", "")
     display = getattr(revision, "get_state_display", None)

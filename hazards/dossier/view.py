@@ -355,6 +355,7 @@ def dossier_view(content: dict, meta) -> dict:
                                    in (context.get("software") or {}).items()),
         "audit_head": context.get("audit_head"),
         "revalidation": context.get("revalidation"),
+        "approval": context.get("approval"),
         "references": sorted((key, cited(text))
                              for key, text in context.get("references", {}).items()),
         "steps": steps,

@@ -141,9 +141,12 @@ def _lapsed_notice(revision) -> Notice | None:
         return None
     lines = [f"- {r.step_label}: {describe(r)}" for r in records]
     return Notice(process, _people_with_roles(process.pk, KIND_ROLES[Kind.APPROVAL_LAPSED]),
-                  f"Approval no longer holds: {process.name}, revision {revision.number}",
+                  f"Changes pending against the approval of {process.name}, revision "
+                  f"{revision.number}",
                   f"The inputs of approved steps of {process.name} changed after revision "
-                  f"{revision.number} was approved; a new revision must be approved.\n"
+                  f"{revision.number} was approved. Revision {revision.number} stays in force "
+                  "until a later revision is endorsed; the changes collect in the next draft, "
+                  "which needs review and endorsement before the plant may run on it.\n"
                   + "\n".join(lines), f"/changes/?process={process.pk}")
 
 

@@ -268,6 +268,19 @@ class ProcessHistoryView(ReviewErrors, APIView):
                                 history.process_sources(_visible_process(request.user, pk)))
 
 
+class ProcessApprovalView(ReviewErrors, APIView):
+    """Which revision of the process is in force, which collects changes, and which
+    indicators differ from the approved ones. An endorsed revision stays in force until a
+    later one is endorsed."""
+
+    @extend_schema(responses=s.ApprovalStatusSerializer,
+                   summary="The approval in force and the changes pending." + CAUTION)
+    def get(self, request, pk):
+        process = _visible_process(request.user, pk)
+        rev.revisions_reconcile(process=process)
+        return Response(selectors.approval_status(process))
+
+
 class ProcessDiffView(ReviewErrors, APIView):
     """The difference between two revisions (by number) of a process."""
 

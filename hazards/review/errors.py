@@ -43,6 +43,8 @@ NO_STEPS = "A revision needs at least one reaction step with current indicators.
 STALE = "The process changed after this revision was lodged; it has been replaced by a new draft."
 OPEN_BLOCKING_FINDINGS = "Blocking findings are still open; close them before endorsement."
 REASON_REQUIRED = "A reason is required."
+IN_FORCE_UNTIL_REPLACED = ("An endorsed revision stays in force until a later revision of its "
+                           "process is endorsed.")
 FINDING_FROZEN = "A resolved or withdrawn finding is not changed again."
 NOT_OPEN_FINDING = "Only an open finding can be marked ready for check."
 NOT_READY_FINDING = "Only a finding marked ready for check can be reopened."

@@ -29,7 +29,8 @@ class ReviewState(models.TextChoices):
     CHECKED = "checked", "Checked by process safety"
     ENDORSED = "endorsed", "Endorsed by the safety committee"
     SENT_BACK = "sent_back", "Sent back to the author"
-    REPLACED = "replaced", "Replaced (its content changed, or a later revision was endorsed)"
+    REPLACED = "replaced", ("Replaced (a later revision was endorsed, or it changed before "
+                            "endorsement)")
 
 
 class Meaning(models.TextChoices):
@@ -53,6 +54,8 @@ ALLOWED_TRANSITIONS = (
     (ReviewState.CHECKED, ReviewState.SENT_BACK),
     (ReviewState.LODGED, ReviewState.REPLACED),
     (ReviewState.CHECKED, ReviewState.REPLACED),
+    # Only when a later revision of the process carries an approval (see
+    # `revision_guard_update`): an endorsed revision stays in force until then.
     (ReviewState.ENDORSED, ReviewState.REPLACED),
     # A draft nobody signed is closed when the process moves on without it.
     (ReviewState.DRAFTING, ReviewState.REPLACED),
@@ -159,6 +162,15 @@ class ProcessRevision(models.Model):
                                     WHERE revision_id = OLD.id AND meaning = 'reviewed')) THEN
                         RAISE EXCEPTION
                             'review: revision % is endorsed from lodged only on the light path',
+                            OLD.id;
+                    END IF;
+                    IF OLD.state = 'endorsed' AND NEW.state = 'replaced' AND NOT EXISTS (
+                        SELECT 1 FROM review_processrevision r
+                          JOIN review_signature s ON s.revision_id = r.id
+                         WHERE r.process_id = OLD.process_id AND r.number > OLD.number
+                           AND s.meaning = 'approved') THEN
+                        RAISE EXCEPTION
+                            'review: revision % stays in force until a later one is endorsed',
                             OLD.id;
                     END IF;
                     RETURN NEW;

@@ -150,3 +150,93 @@ def revision_diff(older, newer) -> dict:
         "to_sha256": newer.content_sha256,
         "changes": content_diff(older.content, newer.content),
     }
+
+
+# Short names of the indicators, as the pages name them.
+INDICATOR_NAMES = {
+    "adiabatic_temperature_rise_k": "ΔTad", "mtsr_k": "MTSR", "mtsr_time_s": "time of MTSR",
+    "mtt_k": "MTT", "td24_k": "TD24", "tmr_ad_at_mtsr_s": "TMRad at MTSR",
+    "severity": "severity", "probability": "probability", "risk_cell": "risk cell",
+    "cooling_capacity_w": "cooling capacity", "plant_peak_heat_release_w": "plant peak power",
+    "cooling_margin": "cooling margin", "minimum_dosing_time_s": "minimum dosing time",
+    "end_pressure_pa": "pressure at MTSR",
+}
+IN_FORCE = "In force: revision {number}"
+NONE_IN_FORCE = "No revision is in force: none has been endorsed yet"
+PENDING = {"drafting": "changes pending in draft {number}",
+           "lodged": "changes pending in revision {number}, lodged for review",
+           "checked": "changes pending in revision {number}, checked and awaiting endorsement"}
+NOTHING_PENDING = "no changes pending"
+DIFFER = "these indicators differ from the approved ones: {items}"
+SAME = "the indicators are those approved"
+
+
+def _step_label(step: dict) -> str:
+    return f"step {step.get('sequence')}. {step.get('name')}"
+
+
+def indicator_differences(approved: dict, current: dict) -> list[dict]:
+    """Per step, the indicators (and class) of `current` content that differ from `approved`."""
+    before = {s["id"]: s for s in approved.get("steps", [])}
+    after = {s["id"]: s for s in current.get("steps", [])}
+    out = []
+    for sid in [*before, *[i for i in after if i not in before]]:
+        old, new = before.get(sid), after.get(sid)
+        row = {"step_id": sid, "step": _step_label(new or old), "indicators": {},
+               "change": "removed" if new is None else "added" if old is None else "changed"}
+        old_ind = (old or {}).get("indicators") or {}
+        new_ind = (new or {}).get("indicators") or {}
+        old_values, new_values = old_ind.get("values") or {}, new_ind.get("values") or {}
+        for key in sorted(set(old_values) | set(new_values)):
+            if old_values.get(key) != new_values.get(key):
+                row["indicators"][key] = {"approved": old_values.get(key),
+                                          "current": new_values.get(key)}
+        if old_ind.get("criticality_class") != new_ind.get("criticality_class"):
+            row["class"] = {"approved": old_ind.get("criticality_class"),
+                            "current": new_ind.get("criticality_class")}
+        if row["change"] != "changed" or row["indicators"] or "class" in row:
+            out.append(row)
+    return out
+
+
+def approval_status(process) -> dict:
+    """Which revision is in force, which one collects changes, and whether its indicators
+    differ from the approved ones, with one sentence that says so. Read after reconciling
+    (`services.revisions.current_revision`), so that an open draft holds the live content."""
+    from hazards.review.models import OPEN_STATES, ProcessRevision, ReviewState
+
+    revisions = list(ProcessRevision.objects.filter(
+        process_id=getattr(process, "pk", process),
+        state__in=[ReviewState.ENDORSED, *OPEN_STATES]).order_by("number"))
+    in_force = next((r for r in revisions if r.state == ReviewState.ENDORSED), None)
+    pending = next((r for r in revisions if r.state != ReviewState.ENDORSED), None)
+    if in_force is not None and pending is not None and pending.number < in_force.number:
+        pending = None
+    steps = (indicator_differences(in_force.content, pending.content)
+             if in_force is not None and pending is not None else [])
+    parts = [IN_FORCE.format(number=in_force.number) if in_force else NONE_IN_FORCE]
+    if in_force is not None:
+        parts.append(PENDING[pending.state].format(number=pending.number) if pending
+                     else NOTHING_PENDING)
+        if pending is not None:
+            parts.append(DIFFER.format(items="; ".join(
+                _describe(row) for row in steps)) if steps else SAME)
+    elif pending is not None:
+        parts.append(PENDING[pending.state].format(number=pending.number))
+    return {
+        "in_force": {"id": in_force.pk, "number": in_force.number} if in_force else None,
+        "pending": ({"id": pending.pk, "number": pending.number, "state": pending.state}
+                    if pending else None),
+        "indicators_differ": bool(steps),
+        "steps": steps,
+        "statement": "; ".join(parts) + ".",
+    }
+
+
+def _describe(row: dict) -> str:
+    if row["change"] != "changed":
+        return f"{row['step']} ({row['change']})"
+    names = [INDICATOR_NAMES.get(k, k) for k in row["indicators"]]
+    if "class" in row:
+        names.append(f"class {row['class']['approved']} → {row['class']['current']}")
+    return f"{row['step']} ({', '.join(names)})"

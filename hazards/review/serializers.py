@@ -184,3 +184,39 @@ class RevisionDiffSerializer(serializers.Serializer):
     from_sha256 = serializers.CharField()
     to_sha256 = serializers.CharField()
     changes = DiffRowSerializer(many=True)
+
+
+class RevisionRefSerializer(serializers.Serializer):
+    id = serializers.IntegerField()
+    number = serializers.IntegerField()
+
+
+class PendingRevisionSerializer(RevisionRefSerializer):
+    state = serializers.ChoiceField(choices=["drafting", "lodged", "checked"])
+
+
+class IndicatorChangeSerializer(serializers.Serializer):
+    approved = serializers.JSONField(allow_null=True, help_text="SI value in the approval")
+    current = serializers.JSONField(allow_null=True, help_text="SI value now")
+
+
+class StepDifferenceSerializer(serializers.Serializer):
+    step_id = serializers.IntegerField()
+    step = serializers.CharField(help_text="The step as the pages name it.")
+    change = serializers.ChoiceField(choices=["changed", "added", "removed"])
+    indicators = serializers.DictField(child=IndicatorChangeSerializer(),
+                                       help_text="Indicator key (SI suffix) -> values.")
+    # `class` is a keyword: declared through the fields mapping below.
+
+
+StepDifferenceSerializer._declared_fields["class"] = IndicatorChangeSerializer(required=False)
+
+
+class ApprovalStatusSerializer(serializers.Serializer):
+    in_force = RevisionRefSerializer(allow_null=True,
+                                     help_text="The endorsed revision the plant runs on.")
+    pending = PendingRevisionSerializer(allow_null=True,
+                                        help_text="The revision collecting changes, if any.")
+    indicators_differ = serializers.BooleanField()
+    steps = StepDifferenceSerializer(many=True)
+    statement = serializers.CharField(help_text="The same in one sentence, as the pages say it.")

@@ -14,6 +14,8 @@ router.register("process-roles", api.ProcessRoleViewSet, basename="processrole")
 urlpatterns = [
     path("processes/<int:pk>/history/", api.ProcessHistoryView.as_view(),
          name="process-history"),
+    path("processes/<int:pk>/approval/", api.ProcessApprovalView.as_view(),
+         name="process-approval"),
     path("processes/<int:pk>/diff/", api.ProcessDiffView.as_view(), name="process-diff"),
     path("history/<str:label>/<int:pk>/", api.RecordHistoryView.as_view(),
          name="record-history"),

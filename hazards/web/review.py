@@ -28,7 +28,7 @@ from hazards.review.models import (
     Role,
     Signature,
 )
-from hazards.review.selectors import content_diff, record_history
+from hazards.review.selectors import approval_status, content_diff, record_history
 from hazards.review.services import findings as finding_services
 from hazards.review.services import revisions as rev
 from hazards.review.signing import printed_name
@@ -163,6 +163,7 @@ def _review_context(request, process, revision, **extra):
     light = on_light_path(revision)
     context = {
         "process": process, "revision": revision, "baseline": baseline, "diff": diff,
+        "approval": approval_status(process),
         "signatures": Signature.objects.filter(revision=revision).select_related("signer")
         if revision else [],
         "transitions": revision.transitions.select_related("actor").order_by("at", "id")

@@ -18,6 +18,7 @@ from hazards.models import (
     ReactionStep,
 )
 from hazards.review.models import Finding, ProcessRevision
+from hazards.review.selectors import approval_status
 from hazards.review.services.revisions import current_revision
 from hazards.web import indicators, selectors
 from hazards.web.common import can_edit, visible_or_404
@@ -57,6 +58,7 @@ def process_detail(request, pk):
 
     return render(request, "hazards/process_detail.html", {
         "process": process, "rows": rows, "revision": revision,
+        "approval": approval_status(process),
         "actions": review_actions(request.user, process, revision),
         "roles": sorted(roles_on(request.user, process.pk)),
         "can_edit": can_edit(request.user, process),

@@ -26,7 +26,7 @@ def lodged_after_change(process, step, people, *, allowed=True, heat=121e3):
     ChangePolicy.objects.create(site=process.site, light_review_allowed=allowed,
                                 relative_tolerance_percent=100.0)
     CalorimetryRun.objects.filter(step=step).update(specific_reaction_heat_j_per_kg=heat)
-    revisions_reconcile(process=process)  # replaces revision 1, opens revision 2
+    revisions_reconcile(process=process)  # revision 1 stays in force; opens revision 2
     revision = ProcessRevision.objects.get(process=process, state="drafting")
     sign(revision, people["author"], "authored")
     revision.refresh_from_db()

@@ -146,7 +146,7 @@ def test_an_approval_that_no_longer_holds_tells_author_reviewers_approver_once(
     with django_capture_on_commit_callbacks(execute=True):
         ReactionStep.objects.filter(pk=step.pk).update(reaction_mass_kg=3500.0)
     assert told("approval_lapsed") == ["approver", "author", "reviewer", "reviewer2"]
-    mails = [m for m in mailoutbox if "no longer holds" in m.subject]
+    mails = [m for m in mailoutbox if "Changes pending against the approval" in m.subject]
     assert len(mails) == 4
     assert "reaction_mass_kg: 5000 → 4000" in mails[0].body, mails[0].body
     assert "Reason: pilot." in mails[0].body

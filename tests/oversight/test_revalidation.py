@@ -110,14 +110,26 @@ def test_refreshing_follows_a_change_of_the_sites_interval_once(endorsed, proces
     assert revalidation.refresh_schedules() == {"created": 0, "updated": 0}
 
 
-def test_a_replaced_approval_is_not_listed(approved_31_august, step, people):
+def test_an_approval_in_force_stays_due_through_changes_and_a_replaced_one_is_not_listed(
+        approved_31_august, step, people):
     from hazards.models import ReactionStep
+    from hazards.review.models import ProcessRevision
     from hazards.review.services.revisions import revisions_reconcile
+    from tests.web.conftest import sign
 
     ReactionStep.objects.filter(pk=step.pk).update(reaction_mass_kg=4000.0)
     revisions_reconcile(process=step.process)
+    # The plant still runs on the approval (issue 21 item 2): its revalidation stays due.
     with time_machine.travel(dt.datetime(2026, 3, 1, tzinfo=UTC), tick=False):
-        assert revalidation.due_and_overdue(people["reviewer"])["overdue"] == []
+        assert revalidation.due_and_overdue(people["reviewer"])["overdue"] == [
+            approved_31_august]
+    draft = ProcessRevision.objects.get(process=step.process, state="drafting")
+    for who, meaning in (("author", "authored"), ("reviewer", "reviewed"),
+                         ("approver", "approved")):
+        sign(draft, people[who], meaning)
+    with time_machine.travel(dt.datetime(2026, 3, 1, tzinfo=UTC), tick=False):
+        assert approved_31_august not in revalidation.due_and_overdue(
+            people["reviewer"])["overdue"]
 
 
 def test_an_overdue_process_is_flagged_on_its_pages(approved_31_august, people, process, step):

@@ -23,23 +23,36 @@ pytestmark = pytest.mark.django_db(transaction=True)
 
 def patch_step(user, step, data):
     step.refresh_from_db()
-    return client_for(user).patch(f"/api/v1/steps/{step.pk}/", data, format="json",
-                                  HTTP_IF_MATCH=etag_for(step))
+    return client_for(user).patch(
+        f"/api/v1/steps/{step.pk}/", data, format="json", HTTP_IF_MATCH=etag_for(step)
+    )
 
 
 def step_reasons(process, step):
-    return [row["reason"] for row in process_history(process)
-            if row["model"] == "hazards.ReactionStep" and row["object_id"] == step.pk
-            and row["action"] == "update" and "reaction_mass_kg" in row["changes"]]
+    return [
+        row["reason"]
+        for row in process_history(process)
+        if row["model"] == "hazards.ReactionStep"
+        and row["object_id"] == step.pk
+        and row["action"] == "update"
+        and "reaction_mass_kg" in row["changes"]
+    ]
 
 
-def test_the_reason_typed_for_a_change_of_approved_data_is_in_the_trail(process, author,
-                                                                        reviewer, approver):
+def test_the_reason_typed_for_a_change_of_approved_data_is_in_the_trail(
+    process, author, reviewer, approver
+):
     revision_in(process, "endorsed", author=author, reviewer=reviewer, approver=approver)
     step = ReactionStep.objects.get(process=process)
 
-    response = patch_step(author, step, {"reaction_mass": {"value": 4500, "unit": "kg"},
-                                         "reason": "charge reduced after the pilot batch"})
+    response = patch_step(
+        author,
+        step,
+        {
+            "reaction_mass": {"value": 4500, "unit": "kg"},
+            "reason": "charge reduced after the pilot batch",
+        },
+    )
     assert response.status_code == 200, response.content
 
     assert step_reasons(process, step) == ["charge reduced after the pilot batch"]
@@ -47,19 +60,34 @@ def test_the_reason_typed_for_a_change_of_approved_data_is_in_the_trail(process,
 
 
 def test_a_second_change_while_the_new_draft_is_open_also_needs_and_keeps_a_reason(
-        process, author, reviewer, approver):
+    process, author, reviewer, approver
+):
     revision_in(process, "endorsed", author=author, reviewer=reviewer, approver=approver)
     step = ReactionStep.objects.get(process=process)
-    first = patch_step(author, step, {"reaction_mass": {"value": 4500, "unit": "kg"},
-                                      "reason": "charge reduced after the pilot batch"})
+    first = patch_step(
+        author,
+        step,
+        {
+            "reaction_mass": {"value": 4500, "unit": "kg"},
+            "reason": "charge reduced after the pilot batch",
+        },
+    )
     assert first.status_code == 200, first.content
 
     without = patch_step(author, step, {"reaction_mass": {"value": 4400, "unit": "kg"}})
     assert without.status_code == 400, without.content
     assert "reason" in str(without.json())
 
-    second = patch_step(author, step, {"reaction_mass": {"value": 4400, "unit": "kg"},
-                                       "reason": "second pilot batch confirmed the charge"})
+    second = patch_step(
+        author,
+        step,
+        {
+            "reaction_mass": {"value": 4400, "unit": "kg"},
+            "reason": "second pilot batch confirmed the charge",
+        },
+    )
     assert second.status_code == 200, second.content
-    assert step_reasons(process, step) == ["charge reduced after the pilot batch",
-                                           "second pilot batch confirmed the charge"]
+    assert step_reasons(process, step) == [
+        "charge reduced after the pilot batch",
+        "second pilot batch confirmed the charge",
+    ]

@@ -1,5 +1,5 @@
-"""The workflow around the signatures: changes after signing replace the revision and send
-the process back to review; changes to signed data need a reason; send-back; findings;
+"""The workflow around the signatures: changes after an endorsement collect in a new draft
+while the endorsed revision stays in force; changes to signed data need a reason; send-back; findings;
 history and differences people can read; the demo."""
 
 from __future__ import annotations
@@ -12,7 +12,7 @@ from hazards.models import ReactionStep
 from hazards.review import errors as E
 from hazards.review.models import ProcessRevision, Transition
 from hazards.review.services import revisions
-from hazards.review.services.revisions import REPLACED_BECAUSE_CHANGED
+from hazards.review.services.revisions import OPENED_FOR_CHANGES
 from tests.conftest import PASSWORD
 from tests.review.conftest import client_for
 from tests.review.factories import revision_in
@@ -26,8 +26,8 @@ def patch_step(user, step, data):
                                   HTTP_IF_MATCH=etag_for(step))
 
 
-def test_a_change_after_approval_replaces_it_and_opens_a_new_draft(process, author, reviewer,
-                                                                  approver):
+def test_a_change_after_approval_keeps_it_in_force_and_opens_a_new_draft(process, author,
+                                                                        reviewer, approver):
     endorsed = revision_in(process, "endorsed", author=author, reviewer=reviewer,
                            approver=approver)
     step = ReactionStep.objects.get(process=process)
@@ -41,15 +41,15 @@ def test_a_change_after_approval_replaces_it_and_opens_a_new_draft(process, auth
     listed = client_for(auditor_of(process)).get(f"/api/v1/revisions/?process={process.pk}")
 
     endorsed.refresh_from_db()
-    assert endorsed.state == "replaced"
-    assert Transition.objects.filter(revision=endorsed, to_state="replaced").get().reason == (
-        REPLACED_BECAUSE_CHANGED)
+    assert endorsed.state == "endorsed"  # in force until a later revision is endorsed
+    assert not Transition.objects.filter(revision=endorsed, to_state="replaced").exists()
     states = [(r["number"], r["state"]) for r in listed.json()["results"]]
-    assert states == [(1, "replaced"), (2, "drafting")]
+    assert states == [(1, "endorsed"), (2, "drafting")]
     new = ProcessRevision.objects.get(process=process, number=2)
+    assert Transition.objects.get(revision=new).reason == OPENED_FOR_CHANGES.format(number=1)
     assert new.content["steps"][0]["reaction_mass_kg"] == 4500.0
     assert endorsed.content["steps"][0]["reaction_mass_kg"] == 5000.0
-    assert endorsed.signatures.count() == 3  # the old approval still says what it approved
+    assert endorsed.signatures.count() == 3  # the approval still says what it approved
 
 
 def auditor_of(process):

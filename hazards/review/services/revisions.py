@@ -9,14 +9,21 @@ checks permission and state after the lock, writes a `Transition` row and raises
     checked  --approve (approver signs "approved")--> endorsed
     lodged   --approve on the lighter review path (approver signs "approved")--> endorsed
     lodged | checked --send back (reviewer / approver, with a reason)--> sent_back
-    lodged | checked | endorsed --content changed--> replaced
+    lodged | checked --content changed--> replaced (never in force; a new draft opens)
+    endorsed --a later revision endorsed--> replaced
+
+An endorsed revision stays in force until a later revision of its process is endorsed
+(issue 21 item 2): the plant runs on it while changes to the process collect in the next
+draft, which opens on the first change. Only the endorsement of a later revision replaces it,
+and the database refuses any other way (`revision_guard_update`).
 
 The lighter review path (issue 10 item 2): a lodged revision that replaces an approved one
 may be endorsed without the reviewer's step when its site allows it and every open change
 record of the process is within the site's tolerances (`hazards.oversight.changes.light_path`);
 the transition row says so and why. Author and approver are still two people.
 
-Leaving a revision by sending it back or replacing it opens the next draft of the process.
+Leaving a revision by sending it back or replacing it, and a change to the content of the
+revision in force, open the next draft of the process.
 """
 
 from __future__ import annotations
@@ -53,8 +60,10 @@ from hazards.review.signing import (
 )
 
 REPLACED_BECAUSE_CHANGED = "The content of the process changed after the revision was signed."
-REPLACED_BY_LATER = "A later revision of the process was endorsed."
+REPLACED_BY_LATER = "Revision {number} of the process was endorsed and is now in force."
 OPENED_AFTER = "Opened after revision {number} was {state}."
+OPENED_FOR_CHANGES = ("Opened for changes to revision {number}, which stays in force until a "
+                      "later revision is endorsed.")
 
 
 def revision_content(process: Process) -> dict:
@@ -83,6 +92,11 @@ def _lock_process_tree(process_id: int) -> None:
 def _move(revision: ProcessRevision, to_state: str, *, actor, reason: str, at=None,
           signature: Signature | None = None, **fields) -> Transition:
     from_state = revision.state
+    if (from_state, to_state) == (ReviewState.ENDORSED, ReviewState.REPLACED) and not (
+        Signature.objects.filter(revision__process_id=revision.process_id,
+                                 revision__number__gt=revision.number,
+                                 meaning=Meaning.APPROVED).exists()):
+        raise E.TransitionRefused(E.IN_FORCE_UNTIL_REPLACED)
     ProcessRevision.objects.filter(pk=revision.pk).update(state=to_state, **fields)
     revision.state = to_state
     for name, value in fields.items():
@@ -203,11 +217,6 @@ def _sign_locked(revision_id, user, meaning, role, needed, to_state, role_error,
         raise E.TransitionRefused(E.OPEN_BLOCKING_FINDINGS)
 
     signed_at = db_clock()
-    if meaning == Meaning.APPROVED:
-        for earlier in ProcessRevision.objects.select_for_update().filter(
-            process_id=revision.process_id, state=ReviewState.ENDORSED
-        ).exclude(pk=revision.pk):
-            _move(earlier, ReviewState.REPLACED, actor=None, reason=REPLACED_BY_LATER)
     if fields:
         ProcessRevision.objects.filter(pk=revision.pk).update(**fields)
         revision.content, revision.content_sha256 = live, live_hash
@@ -220,6 +229,14 @@ def _sign_locked(revision_id, user, meaning, role, needed, to_state, role_error,
             signed_at=signed_at, content_sha256=revision.content_sha256,
         )),
     )
+    if meaning == Meaning.APPROVED:
+        # After the approval exists (the database admits the replacement only then) and
+        # before this revision takes its place (one endorsed revision per process).
+        for earlier in ProcessRevision.objects.select_for_update().filter(
+            process_id=revision.process_id, state=ReviewState.ENDORSED
+        ).exclude(pk=revision.pk):
+            _move(earlier, ReviewState.REPLACED, actor=None, at=signed_at,
+                  reason=REPLACED_BY_LATER.format(number=revision.number))
     _move(revision, to_state, actor=user, reason=reason, at=signed_at, signature=signature)
     if meaning == Meaning.APPROVED:
         for step in revision.content["steps"]:
@@ -271,8 +288,11 @@ def revision_send_back(*, revision: ProcessRevision, user, reason: str) -> Proce
 
 
 def revisions_reconcile(*, process: Process, reason: str = "") -> list[ProcessRevision]:
-    """Replace every signed revision whose content no longer matches the process, open the
-    next draft if none is open, and refresh an open draft. Returns the revisions replaced."""
+    """Bring the revisions of a process in line with its content: a lodged or checked
+    revision whose content no longer matches is replaced (it was never in force); the
+    endorsed revision stays in force whatever changes; an open draft takes the new content,
+    and a draft opens when the content differs from the signed revisions and none is open.
+    Returns the revisions replaced."""
     with transaction.atomic(), trail.scope(
         reason=reason or REPLACED_BECAUSE_CHANGED, review_action="reconcile"
     ):
@@ -286,8 +306,10 @@ def revisions_reconcile(*, process: Process, reason: str = "") -> list[ProcessRe
             return []
         live = _content(Process(pk=process.pk))
         live_hash = content_sha256(live)
-        replaced = []
+        replaced, in_force, differs = [], None, False
         for revision in revisions:
+            if revision.state == ReviewState.ENDORSED:
+                in_force = revision
             if revision.content_sha256 == live_hash:
                 continue
             if revision.state == ReviewState.DRAFTING:
@@ -295,14 +317,18 @@ def revisions_reconcile(*, process: Process, reason: str = "") -> list[ProcessRe
                     content=live, content_sha256=live_hash
                 )
                 continue
+            if revision.state == ReviewState.ENDORSED:
+                differs = True
+                continue
             _move(revision, ReviewState.REPLACED, actor=None,
                   reason=reason or REPLACED_BECAUSE_CHANGED)
             replaced.append(revision)
-        if replaced and not ProcessRevision.objects.filter(
+        if (replaced or differs) and not ProcessRevision.objects.filter(
             process_id=process.pk, state__in=OPEN_STATES
         ).exists():
-            _open_next(process.pk, actor=None, content=live, reason=OPENED_AFTER.format(
-                number=replaced[-1].number, state="replaced"))
+            opened = (OPENED_AFTER.format(number=replaced[-1].number, state="replaced")
+                      if replaced else OPENED_FOR_CHANGES.format(number=in_force.number))
+            _open_next(process.pk, actor=None, content=live, reason=opened)
         return replaced
 
 
