@@ -47,8 +47,22 @@ def _fmt(value, digits=4):
     return "–" if value is None else f"{value:.{digits}g}"
 
 
+INPUTS = ("dosing_time", "process_temperature", "activation_energy")
+INPUT_LABELS = {"dosing_time": "Dosing time", "process_temperature": "Process temperature",
+                "activation_energy": "Activation energy"}
+NOT_EVALUATED = "Not evaluated: correct the input marked beside its field. No verdict is shown."
+
+
+def _typed(request, name: str) -> str:
+    return (request.GET.get(name) or "").strip()[:100]
+
+
 def build_context(request, step) -> dict:
-    """Everything the page and the fragment show; computes, never saves."""
+    """Everything the page and the fragment show; computes, never saves.
+
+    A point is judged only when every input was read: with an input refused (not a number,
+    not finite, out of its physical range, or a temperature the model cannot reach) the page
+    names the field and the rule beside it and shows no verdict at all (issue 21 item 4)."""
     errors: dict[str, str] = {}
     td = _entered(request, "dosing_time", "time", errors)
     tp = _entered(request, "process_temperature", "temperature", errors)
@@ -59,12 +73,46 @@ def build_context(request, step) -> dict:
         case, rows = services.load(step.pk)
         model = services.build_model(case, rows, activation_energy_j_per_mol=ea)
         ranges = services.default_ranges(case, model)
-        td = td or step.dosing_time_s or model.anchor_dosing_time_s
-        tp = tp or step.process_temperature_k
-        point = services.evaluate(case, model, dosing_time_s=td, process_temperature_k=tp)
-        win = services.window(case, model, **ranges)
     except services.WhatIfRefused as exc:
-        ctx["refused"] = f"{exc.field}: {exc.rule}" if exc.field else exc.rule
+        if exc.field not in INPUTS:
+            ctx["refused"] = f"{exc.field}: {exc.rule}" if exc.field else exc.rule
+            return ctx
+        errors[exc.field] = exc.rule
+        model = ranges = None
+    tp_fixed = model is None or model.activation_energy_j_per_mol is None
+    td_shown = td or step.dosing_time_s or (model.anchor_dosing_time_s if model else None)
+    tp_shown = tp or step.process_temperature_k
+    ctx.update({
+        "td_min": "" if td_shown is None else f"{td_shown / 60:.4g}",
+        "tp_c": "" if tp_shown is None else f"{tp_shown - C:.2f}",
+        "td_text": _typed(request, "dosing_time") if "dosing_time" in errors else
+        ("" if td_shown is None else f"{td_shown / 60:.4g} min"),
+        "tp_text": _typed(request, "process_temperature") if "process_temperature" in errors
+        else ("" if tp_shown is None else f"{tp_shown - C:.2f} degC"),
+        "ea_text": _typed(request, "activation_energy"),
+        "tp_fixed": tp_fixed,
+        "slider": {"td_lo": "1", "td_hi": "600", "tp_lo": "-20", "tp_hi": "200",
+                   "tp_fixed": tp_fixed} if ranges is None else {
+            "td_lo": f"{ranges['dosing_time_min_s'] / 60:.0f}",
+            "td_hi": f"{ranges['dosing_time_max_s'] / 60:.0f}",
+            "tp_lo": f"{ranges['temperature_min_k'] - C - 10:.0f}",
+            "tp_hi": f"{ranges['temperature_max_k'] - C + 10:.0f}",
+            "tp_fixed": tp_fixed},
+    })
+    if not errors:
+        td, tp = td_shown, tp_shown
+        try:
+            point = services.evaluate(case, model, dosing_time_s=td, process_temperature_k=tp)
+            win = services.window(case, model, **ranges)
+        except services.WhatIfRefused as exc:
+            if exc.field not in INPUTS:
+                ctx["refused"] = f"{exc.field}: {exc.rule}" if exc.field else exc.rule
+                return ctx
+            errors[exc.field] = exc.rule
+    if errors:
+        ctx["not_evaluated"] = NOT_EVALUATED
+        ctx["error_rows"] = [(name, INPUT_LABELS[name], errors[name])
+                             for name in INPUTS if name in errors]
         return ctx
     g = win.grid
     table = []
@@ -79,14 +127,6 @@ def build_context(request, step) -> dict:
         "point": point, "window": win, "model": model,
         "window_img": charts.data_uri(charts.window_svg(win, chosen=point)),
         "profile_img": charts.data_uri(charts.profile_svg(point)),
-        "td_min": f"{td / 60:.4g}", "tp_c": f"{tp - C:.2f}",
-        "td_text": f"{td / 60:.4g} min", "tp_text": f"{tp - C:.2f} degC",
-        "ea_text": request.GET.get("activation_energy", ""),
-        "slider": {"td_lo": f"{ranges['dosing_time_min_s'] / 60:.0f}",
-                   "td_hi": f"{ranges['dosing_time_max_s'] / 60:.0f}",
-                   "tp_lo": f"{ranges['temperature_min_k'] - C - 10:.0f}",
-                   "tp_hi": f"{ranges['temperature_max_k'] - C + 10:.0f}",
-                   "tp_fixed": model.activation_energy_j_per_mol is None},
         "numbers": [
             ("Dosing time", f"{td / 60:.4g} min"),
             ("Process temperature", f"{tp - C:.2f} °C"),

@@ -100,3 +100,33 @@ def test_apply_needs_a_reason_an_editing_role_and_the_current_version(step, auth
     browser(author_of).post(f"/steps/{step.pk}/what-if/apply/",
                             {**body, "version": version - 1, "reason": "stale"})
     assert ReactionStep.objects.get(pk=step.pk).dosing_time_s == 3600.0
+
+
+@pytest.mark.parametrize(("name", "typed", "rule"), [
+    ("dosing_time", "1e309 min", "must be a finite number"),
+    ("dosing_time", "soon", "must be a number followed by a unit"),
+    ("activation_energy", "-70 kJ/mol", "must be greater than zero"),
+])
+def test_a_point_that_was_not_read_gets_no_verdict_and_the_error_beside_its_field(
+        step, admin_user, name, typed, rule):
+    # The rules are those of hazards.quantities.parse_quantity (common practice, no source).
+    client = browser(admin_user)
+    fragment = client.get(f"/steps/{step.pk}/what-if/fragment/", {name: typed}).content.decode()
+    page = client.get(f"/steps/{step.pk}/what-if/", {name: typed}).content.decode()
+
+    for html in (fragment, page):
+        assert "— acceptable" not in html and "— not acceptable" not in html
+        assert "This point — not evaluated" in html
+        assert rule in html
+    assert f'data-field-error="{name}"' in fragment
+    assert re.search(rf'id="wi-err-{name}" role="alert">[^<]*{re.escape(rule)}', page)
+    assert f'value="{typed}"' in page  # what was typed stays to be corrected
+
+
+def test_with_an_activation_energy_the_temperature_is_free(step, admin_user):
+    client = browser(admin_user)
+    locked = client.get(f"/steps/{step.pk}/what-if/fragment/").content.decode()
+    free = client.get(f"/steps/{step.pk}/what-if/fragment/",
+                      {"activation_energy": "70 kJ/mol"}).content.decode()
+    assert 'data-tp-fixed="true"' in locked
+    assert 'data-tp-fixed="false"' in free

@@ -28,12 +28,48 @@
     timer = window.setTimeout(refresh, 250);
   }
 
+  var FIELDS = { dosing_time: "wi-td", process_temperature: "wi-tp", activation_energy: "wi-ea" };
+
+  // The errors of the fragment go beside their fields; fields without one are cleared.
+  function showErrors() {
+    Object.keys(FIELDS).forEach(function (name) {
+      var item = target.querySelector('[data-field-error="' + name + '"]');
+      var span = document.getElementById("wi-err-" + name);
+      var input = document.getElementById(FIELDS[name]);
+      if (span) { span.textContent = item ? item.getAttribute("data-message") : ""; }
+      if (input) {
+        if (item) { input.setAttribute("aria-invalid", "true"); }
+        else { input.removeAttribute("aria-invalid"); }
+      }
+    });
+  }
+
+  // Without an activation energy only the measured temperature can be evaluated; with one,
+  // the temperature is free again (the server says which, from the inputs it read).
+  function followLock() {
+    var holder = target.querySelector("[data-tp-fixed]");
+    if (!holder) { return; }
+    var fixed = holder.getAttribute("data-tp-fixed") === "true";
+    var slider = form.querySelector("#wi-tp-slider");
+    var text = form.querySelector("#wi-tp");
+    var note = document.getElementById("wi-tp-fixed");
+    if (slider) { slider.disabled = fixed; }
+    if (text) { text.readOnly = fixed; }
+    if (note) { note.hidden = !fixed; }
+  }
+
   // After the server parsed a typed value ("2.5 h"), move the slider to it.
   function followServer() {
+    showErrors();
+    followLock();
     var grid = target.querySelector(".whatif-grid");
     if (!grid) { return; }
     var td = form.querySelector("#wi-td-slider");
     var tp = form.querySelector("#wi-tp-slider");
+    if (tp && grid.getAttribute("data-tp-lo")) {
+      tp.min = grid.getAttribute("data-tp-lo");
+      tp.max = grid.getAttribute("data-tp-hi");
+    }
     if (td && document.activeElement !== td) { td.value = grid.getAttribute("data-dosing-time"); }
     if (tp && document.activeElement !== tp) { tp.value = grid.getAttribute("data-process-temperature"); }
   }
