@@ -280,6 +280,9 @@ class CalorimetryRunSerializer(RecordSerializer):
             "raw_file_sha256", "is_basis", "notes",
         ]
         read_only_fields = ["raw_file_sha256"]
+        # The one-basis-per-step constraint is met by the write itself: marking a run as the
+        # basis releases the step's previous one in the same transaction (services.basis).
+        validators: list = []
 
 
 class DecompositionTestSerializer(RecordSerializer):
@@ -310,6 +313,7 @@ class DecompositionTestSerializer(RecordSerializer):
             "reference_temperature", "heat_release_rate_at_reference", "phi_factor", "is_basis",
             "notes",
         ]
+        validators: list = []  # one basis per step: see CalorimetryRunSerializer
 
 
 class IndicatorSnapshotSerializer(serializers.ModelSerializer):

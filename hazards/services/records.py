@@ -11,6 +11,8 @@ from typing import Any
 
 from django.db import models, transaction
 
+from hazards.services.basis import release_previous_basis
+
 STALE_RECORD = "The record was changed by someone else since you read it (version {expected}; now {current})."
 
 
@@ -49,6 +51,7 @@ def record_create(*, model: type[models.Model], data: dict[str, Any]) -> models.
     """Create a record from validated field values; nothing is saved unless all is valid."""
     with transaction.atomic():
         instance = model(**data)
+        instance.released_basis = release_previous_basis(instance=instance)
         instance.full_clean()
         instance.save()
     return instance
@@ -65,6 +68,7 @@ def record_update(*, instance: models.Model, data: dict[str, Any],
         lock_version(instance=instance, expected_version=expected_version)
         for name, value in data.items():
             setattr(instance, name, value)
+        instance.released_basis = release_previous_basis(instance=instance)
         instance.full_clean()
         instance.save()
     return instance

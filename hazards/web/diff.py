@@ -57,3 +57,37 @@ def humanise_diff(rows: list[dict]) -> list[dict]:
                     "change": row["change"], "from": _show(row["from"], kind),
                     "to": _show(row["to"], kind), "path": row["path"]})
     return out
+
+
+UNCHANGED = "The indicators did not change."
+CHANGED = "The indicators changed: {items}."
+FIRST = "The indicators were computed for the first time."
+
+
+def indicator_change_text(before: dict | None, after: dict | None) -> str:
+    """One sentence: which indicators (and the class) moved from `before` to `after`, each a
+    current snapshot as {"values", "criticality_class"} or None, in display units."""
+    from hazards.review.selectors import INDICATOR_NAMES
+
+    if after is None and before is None:
+        return UNCHANGED
+    if before is None:
+        return FIRST
+    old, new = before.get("values") or {}, (after or {}).get("values") or {}
+    items = []
+    for key in sorted(set(old) | set(new)):
+        if old.get(key) == new.get(key) or key not in INDICATOR_NAMES:
+            continue
+        kind = INDICATOR_KINDS.get(key)
+        items.append(f"{INDICATOR_NAMES[key]} {_indicator(old.get(key), kind)} → "
+                     f"{_indicator(new.get(key), kind)}")
+    a, b = before.get("criticality_class"), (after or {}).get("criticality_class")
+    if a != b:
+        items.append(f"class {a or '—'} → {b or '—'}")
+    return CHANGED.format(items="; ".join(items)) if items else UNCHANGED
+
+
+def _indicator(value, kind) -> str:
+    if isinstance(value, int | float) and not isinstance(value, bool):
+        return display.quantity(value, kind)
+    return _show(value, kind)

@@ -23,7 +23,8 @@ from hazards.models import (
     Vessel,
 )
 from hazards.services.records import StaleRecord, record_create, record_delete, record_update
-from hazards.web import common
+from hazards.web import common, selectors
+from hazards.web.diff import indicator_change_text
 from hazards.web.forms import FORMS, PEAK_ROWS, PeakForm
 
 STALE_MESSAGE = ("Someone else changed this record while you were editing it (you started from "
@@ -155,6 +156,30 @@ def _peaks_valid(formset) -> bool:
     return ok
 
 
+def _step_id_of(instance, parent) -> int | None:
+    """The step whose indicators a change of this record can move (None: not a step's)."""
+    if isinstance(instance, ReactionStep):
+        return instance.pk
+    step = (parent or {}).get("step") if parent else None
+    if step is not None:
+        return getattr(step, "pk", step)
+    return getattr(instance, "step_id", None)
+
+
+def _basis_note(saved, step_id, before) -> str:
+    """What a basis switch changed (issue 21 item 6), and whether the indicators moved."""
+    if step_id is None:
+        return ""
+    note = ""
+    released = getattr(saved, "released_basis", None) or []
+    if released:
+        what = "run" if isinstance(saved, CalorimetryRun) else "test"
+        note = (f" It is now the basis of the step; {what}"
+                f"{'s' if len(released) > 1 else ''} {', '.join(map(str, released))} no longer"
+                f" {'are' if len(released) > 1 else 'is'}.")
+    return note + " " + indicator_change_text(before, selectors.current_indicators(step_id))
+
+
 def edit_record(request, *, key, instance, parent=None, process=None, title, back_url,
                 done_url=None):
     """Create (instance.pk is None) or change one record."""
@@ -177,6 +202,8 @@ def edit_record(request, *, key, instance, parent=None, process=None, title, bac
         if valid:
             data = form.record_data()
             reason = form.cleaned_data.get("reason", "")
+            step_id = _step_id_of(instance, parent)
+            before = selectors.current_indicators(step_id) if step_id else None
             try:
                 with transaction.atomic(), common.audit_reason(reason):
                     if is_new:
@@ -201,7 +228,8 @@ def edit_record(request, *, key, instance, parent=None, process=None, title, bac
                 _apply_service_errors(form, exc)
                 status = 400
             else:
-                messages.success(request, f"{title}: saved.")
+                messages.success(request, f"{title}: saved." + _basis_note(saved, step_id,
+                                                                           before))
                 return redirect(done_url(saved) if done_url else back_url)
         else:
             status = 400

@@ -113,3 +113,9 @@ def search(queryset, text: str, *fields: str):
     for name in fields:
         condition |= Q(**{f"{name}__icontains": text})
     return queryset.filter(condition)
+
+
+def current_indicators(step_id) -> dict | None:
+    """The values and class of a step's current snapshot (None before the first one)."""
+    return (IndicatorSnapshot.objects.filter(step_id=step_id, is_current=True)
+            .values("id", "values", "criticality_class").first())

@@ -35,7 +35,9 @@ from hazards.services.series_store import (
     series_attach,
 )
 from hazards.web import common
+from hazards.web.diff import indicator_change_text
 from hazards.web.display import number
+from hazards.web.selectors import current_indicators
 
 SESSION_KEY = "exo_pending_series"
 PREVIEW_ROWS = 8
@@ -234,6 +236,7 @@ def confirm(request, pk):
         original = hashlib.sha256(base64.b64decode(pending["raw"])).hexdigest()
         reason += f"; original file SHA-256 {original}"
     analysis = context["analysis"]
+    before = current_indicators(step.pk)
     try:
         with transaction.atomic(), trail.scope(reason=reason[:1000]):
             if run is None:
@@ -267,5 +270,6 @@ def confirm(request, pk):
     request.session.pop(SESSION_KEY, None)
     series = CalorimetrySeries.objects.get(run=run)
     messages.success(request, f"Calorimeter file {series.file_name} stored ({len(series.data['time_s'])} "
-                              f"rows, SHA-256 {series.sha256[:12]}…); the indicators were recomputed.")
+                              f"rows, SHA-256 {series.sha256[:12]}…). "
+                              + indicator_change_text(before, current_indicators(step.pk)))
     return redirect(f"/steps/{step.pk}/")

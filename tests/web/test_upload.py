@@ -95,3 +95,13 @@ def test_missing_masses_are_asked_for_beside_their_fields(people, step, client_a
     html = response.content.decode()
     assert 'id="err-initial_mass"' in html and "This field is required" in html
     assert "must be greater than zero" in html
+
+
+def test_after_an_upload_the_page_says_whether_the_indicators_changed(people, step, client_as):
+    from hazards.web.diff import UNCHANGED
+
+    client = client_as(people["author"])
+    assert choose(client, step, series_csv()).status_code == 302
+    done = client.post(f"/steps/{step.pk}/calorimetry/upload/confirm/", {}, follow=True)
+    # The new run is not the step's basis (another run is marked), so nothing moves.
+    assert UNCHANGED in done.content.decode()
