@@ -210,3 +210,21 @@ def test_an_overlong_reason_is_refused(api, site):
     assert resp.status_code == 400
     assert "mtt_override_reason" in str(resp.json())
     assert not m.ReactionStep.objects.exists()
+
+
+def test_the_step_api_takes_the_initial_charge_and_the_non_volatile_declaration(api, site):
+    # issue 15 items 1 and 2: the declaration needs its basis (database rule, 400 naming it,
+    # nothing saved); "80 %" of the final mass is 0.8 (ISO 80000-1)
+    process = m.Process.objects.create(name="P", site=site)
+    before = m.ReactionStep.objects.count()
+    resp = api.post("/api/v1/steps/", _step_payload(process.pk, non_volatile_declared=True),
+                    format="json")
+    assert resp.status_code == 400 and "needs its basis" in str(resp.json())
+    assert m.ReactionStep.objects.count() == before
+    resp = api.post("/api/v1/steps/", _step_payload(
+        process.pk, non_volatile_declared=True, non_volatile_reason="polymer melt, no solvent",
+        initial_mass_fraction="80 %"), format="json")
+    assert resp.status_code == 201, resp.json()
+    body = resp.json()
+    assert body["non_volatile_declared"] is True
+    assert body["initial_mass_fraction"]["value"] == pytest.approx(0.8)
