@@ -167,7 +167,7 @@ def test_the_migration_puts_an_approval_replaced_by_an_edit_back_in_force(
     import pgtrigger
     from django.apps import apps
 
-    migration = importlib.import_module("hazards.review.migrations.0007_restore_in_force")
+    migration = importlib.import_module("hazards.review.migrations.0008_restore_in_force")
     endorsed = revision_in(process, "endorsed", author=author, reviewer=reviewer, approver=approver)
     # What the application did before: an edit marked the approval replaced.
     with pgtrigger.ignore("review.ProcessRevision:revision_guard_update"):

@@ -8,7 +8,7 @@ from django.db import migrations, models
 class Migration(migrations.Migration):
 
     dependencies = [
-        ('review', '0005_chain_links_at_commit'),
+        ('review', '0006_event_record_index'),
     ]
 
     operations = [

@@ -55,7 +55,7 @@ def restore_in_force(apps, schema_editor):
 
 class Migration(migrations.Migration):
     dependencies = [
-        ("review", "0006_in_force_until_replaced"),
+        ("review", "0007_in_force_until_replaced"),
     ]
 
     operations = [
