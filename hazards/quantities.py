@@ -160,7 +160,7 @@ def _plausible(field: str, shown, si_value: float, spec: QuantitySpec) -> float:
     low, high = spec.plausible
     if not low <= si_value <= high:
         unit = spec.canonical_unit if spec.canonical_unit != "dimensionless" else ""
-        shown_low, shown_high = (_to_canonical(v, spec) for v in (low, high))
+        shown_low, shown_high = (tidy(to_canonical_exact(v, spec)) for v in (low, high))
         raise QuantityError(
             field, shown,
             f"is outside the plausible range of a plant record ({shown_low:g} to "
@@ -180,6 +180,16 @@ def _check_limits(field: str, shown, si_value: float, spec: QuantitySpec) -> flo
         if not high_ok:
             raise QuantityError(field, shown, spec.rule, "out_of_range")
     return _plausible(field, shown, si_value, spec)
+
+
+#: Significant digits a converted quantity keeps: unit factors leave noise in the 16th digit
+#: (2.2 bar -> 220000.00000000003 Pa -> 2.2000000000000006 bar), which no measurement has.
+SIGNIFICANT_DIGITS = 12
+
+
+def tidy(value: float) -> float:
+    """The value to SIGNIFICANT_DIGITS significant digits: conversion noise taken out."""
+    return float(f"{value:.{SIGNIFICANT_DIGITS}g}")
 
 
 def convert_to_si(field: str, magnitude: float, unit_text: str, spec: QuantitySpec,
@@ -204,7 +214,7 @@ def convert_to_si(field: str, magnitude: float, unit_text: str, spec: QuantitySp
         si_value = quantity.to(target).magnitude
     if not math.isfinite(si_value):
         raise QuantityError(field, shown, "must be a finite number", "not_finite")
-    return _check_limits(field, shown, si_value, spec)
+    return _check_limits(field, shown, tidy(si_value), spec)
 
 
 def parse_quantity(raw, *, field: str, kind: str) -> float:
@@ -246,7 +256,8 @@ def parse_quantity(raw, *, field: str, kind: str) -> float:
     return convert_to_si(field, magnitude, unit_text, spec, molar_mass)
 
 
-def _to_canonical(si_value: float, spec: QuantitySpec) -> float:
+def to_canonical_exact(si_value: float, spec: QuantitySpec) -> float:
+    """An SI magnitude in the spec's canonical unit, as pint computes it (not tidied)."""
     return float(Q_(si_value, ureg.Unit(spec.si_unit)).to(ureg.Unit(spec.canonical_unit)).magnitude)
 
 
@@ -254,7 +265,7 @@ def from_si(si_value: float | None, *, kind: str) -> float | None:
     """An SI magnitude -> the field's canonical unit."""
     if si_value is None:
         return None
-    return _to_canonical(si_value, SPECS[kind])
+    return tidy(to_canonical_exact(si_value, SPECS[kind]))
 
 
 def display_unit(kind: str) -> str:

@@ -10,15 +10,26 @@ from functools import cache
 
 from rest_framework import serializers
 
-from hazards.quantities import SPECS, QuantityError, display_unit, from_si, parse_quantity
+from hazards.quantities import (
+    SPECS,
+    QuantityError,
+    display_unit,
+    parse_quantity,
+    tidy,
+    to_canonical_exact,
+)
 
 
 @cache
 def _linear(kind: str) -> tuple[float, float]:
     """(a, b) with canonical = a·si + b, from the registry once per kind (pint is slow per
     value, and lists render thousands of quantities)."""
-    b = from_si(0.0, kind=kind)
-    a = from_si(1.0, kind=kind) - b if b == 0.0 else (from_si(1000.0, kind=kind) - b) / 1000.0
+    # The exact factors (from_si rounds its result to SIGNIFICANT_DIGITS; a rounded factor
+    # would put noise back into every value).
+    spec = SPECS[kind]
+    b = to_canonical_exact(0.0, spec)
+    a = (to_canonical_exact(1.0, spec) - b if b == 0.0
+         else (to_canonical_exact(1000.0, spec) - b) / 1000.0)
     return a, b
 
 
@@ -27,7 +38,7 @@ def canonical(value: float | None, kind: str) -> float | None:
     if value is None:
         return None
     a, b = _linear(kind)
-    return value * a + b if a != 1.0 else value + b
+    return tidy(value * a + b if a != 1.0 else value + b)
 
 
 class QuantityField(serializers.Field):

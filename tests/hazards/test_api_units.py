@@ -228,3 +228,23 @@ def test_the_step_api_takes_the_initial_charge_and_the_non_volatile_declaration(
     body = resp.json()
     assert body["non_volatile_declared"] is True
     assert body["initial_mass_fraction"]["value"] == pytest.approx(0.8)
+
+
+@pytest.mark.django_db
+@pytest.mark.parametrize(("field", "entered", "shown"), [
+    ("specific_heat_capacity", "1.9 kJ/(kg*K)", 1.9),
+    ("operating_pressure", "2.2 bar", 2.2),
+    ("process_temperature", "86 degF", 30.0),
+])
+def test_converted_values_come_back_without_float_noise(api, field, entered, shown):
+    # Issue 21 item 8: the API answered 1.9000000000000001 and 2.2000000000000006.
+    # 86 °F = 30 °C exactly (NIST SP 811: t/°C = (t/°F - 32)/1.8).
+    from tests.factories import StepFactory
+
+    step = StepFactory()
+    etag = api.get(f"/api/v1/steps/{step.pk}/")["ETag"]
+    response = api.patch(f"/api/v1/steps/{step.pk}/", {field: entered}, format="json",
+                         HTTP_IF_MATCH=etag)
+    assert response.status_code == 200, response.json()
+    assert response.json()[field]["value"] == shown
+    assert repr(api.get(f"/api/v1/steps/{step.pk}/").json()[field]["value"]) == repr(shown)
