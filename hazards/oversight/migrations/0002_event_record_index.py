@@ -10,7 +10,7 @@ class Migration(migrations.Migration):
         ('hazards', '0009_event_record_index'),
         ('oversight', '0001_initial'),
         ('pghistory', '0007_auto_20250421_0444'),
-        ('review', '0008_event_record_index'),
+        ('review', '0006_event_record_index'),
         migrations.swappable_dependency(settings.AUTH_USER_MODEL),
     ]
 

@@ -9,7 +9,7 @@ class Migration(migrations.Migration):
     dependencies = [
         ('hazards', '0009_event_record_index'),
         ('pghistory', '0007_auto_20250421_0444'),
-        ('review', '0007_restore_in_force'),
+        ('review', '0005_chain_links_at_commit'),
         migrations.swappable_dependency(settings.AUTH_USER_MODEL),
     ]
 
