@@ -33,10 +33,3 @@ def test_labels_of_older_snapshots_print_without_the_lookup_note():
     assert parameter_row("probability_scale", "severity 3-level (Stoessel 2008, from memory)")[
         "value"] == "severity 3-level (Stoessel 2008)"
 
-
-def test_every_unconfirmed_citation_is_still_a_citation():
-    # The developers' confirmation notes live beside the citations, not inside them.
-    from calcs.constants import REFERENCES, UNCONFIRMED
-
-    assert set(UNCONFIRMED) <= set(REFERENCES)
-    assert not [k for k, text in REFERENCES.items() if "memory" in text.lower()]
