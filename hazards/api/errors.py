@@ -26,10 +26,9 @@ from django.core.exceptions import (
 )
 from django.core.exceptions import ValidationError as DjangoValidationError
 from django.core.serializers.json import DjangoJSONEncoder
-from django.db import DatabaseError, IntegrityError
+from django.db import DatabaseError, IntegrityError, connections
 from django.http import Http404, HttpResponse
 from rest_framework import exceptions
-from rest_framework.views import set_rollback
 
 from calcs.errors import CalcInputError
 
@@ -283,6 +282,14 @@ def _problem_for(exc, request) -> tuple[dict, dict]:
         return problem_body("database_unavailable", instance=instance), {"Retry-After": "5"}
     log.error("unhandled error in %s", instance, exc_info=exc)
     return problem_body("server_error", instance=instance), headers
+
+
+def set_rollback() -> None:
+    """As DRF's `views.set_rollback`, which is not imported: DRF's views module reads the
+    parser setting as it loads, and that names hazards.api.parsers, which imports this one."""
+    for db in connections.all(initialized_only=True):
+        if db.settings_dict["ATOMIC_REQUESTS"] and db.in_atomic_block:
+            db.set_rollback(True)
 
 
 def exception_handler(exc, context):

@@ -15,9 +15,7 @@ from django.conf import settings
 from rest_framework import parsers
 from rest_framework.parsers import get_encoding
 
-# The module, not its names: hazards.api.errors imports DRF's views, whose APIView reads
-# this parser set from the settings while errors is still being imported.
-from hazards.api import errors
+from hazards.api.errors import ProblemError
 from hazards.quantities import size_text
 
 # Deeper than any document of this API; json's C decoder recurses per level.
@@ -54,7 +52,7 @@ def refuse_unstorable_text(data, field: str = "") -> None:
         )
         if rule is not None:
             where = f"field '{field}'" if field else "body"
-            raise errors.ProblemError(
+            raise ProblemError(
                 "parse_error",
                 f"The {where} breaks a rule of stored text: {rule}.",
                 errors=[
@@ -79,7 +77,7 @@ def _refuse_oversized(parser_context) -> None:
     request = (parser_context or {}).get("request")
     length = request.META.get("CONTENT_LENGTH") if request is not None else None
     if length and length.isdigit() and int(length) > settings.DATA_UPLOAD_MAX_MEMORY_SIZE:
-        raise errors.ProblemError(
+        raise ProblemError(
             "payload_too_large",
             f"The body is larger than the limit of {size_text(settings.DATA_UPLOAD_MAX_MEMORY_SIZE)}.",
         )
@@ -92,7 +90,7 @@ class LimitedJSONParser(parsers.JSONParser):
         _refuse_oversized(parser_context)
         raw = stream.read(settings.DATA_UPLOAD_MAX_MEMORY_SIZE + 1) if stream else b""
         if len(raw) > settings.DATA_UPLOAD_MAX_MEMORY_SIZE:
-            raise errors.ProblemError(
+            raise ProblemError(
                 "payload_too_large",
                 f"The body is larger than the limit of {size_text(settings.DATA_UPLOAD_MAX_MEMORY_SIZE)}.",
             )
@@ -100,15 +98,15 @@ class LimitedJSONParser(parsers.JSONParser):
         try:
             text = raw.decode(encoding)
         except UnicodeDecodeError:
-            raise errors.ProblemError("parse_error", f"The body is not valid {encoding} text.") from None
+            raise ProblemError("parse_error", f"The body is not valid {encoding} text.") from None
         if not _depth_ok(text):
-            raise errors.ProblemError(
+            raise ProblemError(
                 "parse_error", f"The JSON is nested more than {MAX_DEPTH} levels deep."
             )
         try:
             data = super().parse(io.BytesIO(raw), media_type, parser_context)
         except RecursionError:  # a second guard: never a 500
-            raise errors.ProblemError("parse_error", "The JSON is nested too deeply.") from None
+            raise ProblemError("parse_error", "The JSON is nested too deeply.") from None
         refuse_unstorable_text(data)
         return data
 

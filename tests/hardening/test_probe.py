@@ -216,3 +216,31 @@ def test_the_schema_and_its_documentation_are_public_and_hold_no_records(people,
                     people["reviewer"].email):
         assert private not in text
     assert "Local codes, company standards" in docs.content.decode()
+
+
+@pytest.mark.django_db
+def test_every_operation_parses_its_body_with_the_one_bounded_parser_set(people):
+    # Issue 18 (item 8): the review, role and dossier views used DRF's own parsers.
+    import re
+
+    from django.urls import resolve
+
+    from hazards.api import parsers
+
+    bounded = (parsers.LimitedJSONParser, parsers.LimitedFormParser,
+               parsers.LimitedMultiPartParser)
+    schema = _client(people["admin"]).get("/api/v1/schema/?format=json").json()
+    wrong, checked = [], 0
+    for path, ops in schema["paths"].items():
+        match = resolve(re.sub(r"\{[^}]+\}", "1", path))
+        view = match.func
+        cls = getattr(view, "cls", None) or getattr(view, "view_class", None)
+        for method in set(ops) & {"post", "put", "patch"}:
+            action = (getattr(view, "actions", None) or {}).get(method)
+            handler = getattr(cls, action or method, None)
+            classes = (getattr(handler, "kwargs", {}).get("parser_classes")
+                       or cls.parser_classes)
+            checked += 1
+            if not all(issubclass(c, bounded) for c in classes):
+                wrong.append((method, path, [c.__name__ for c in classes]))
+    assert checked > 20 and not wrong, wrong
