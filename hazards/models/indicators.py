@@ -43,7 +43,12 @@ class IndicatorSnapshot(models.Model):
             ),
         ]
         indexes = [models.Index(fields=["criticality_class"], condition=Q(is_current=True),
-                                name="snapshot_current_class_idx")]
+                                name="snapshot_current_class_idx"),
+                   # The step list sorted by class reads this from the top (highest class
+                   # first) or the bottom (unassigned, then lowest) and stops after a page.
+                   models.Index(models.F("criticality_class").desc(nulls_last=True),
+                                models.F("step").desc(), condition=Q(is_current=True),
+                                name="snapshot_class_step_idx")]
 
     def __str__(self) -> str:
         return f"Indicators of step {self.step_id} at {self.computed_at:%Y-%m-%d %H:%M:%S}"

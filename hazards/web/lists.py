@@ -24,10 +24,11 @@ PROCESS_SORTS = {
 }
 STEP_SORTS = {
     "process": ("Process, then sequence", [F("process__name").asc(), F("sequence").asc()]),
-    "-klass": ("Class, highest first", [F("klass").desc(nulls_last=True), F("process__name").asc(),
-                                        F("sequence").asc()]),
-    "klass": ("Class, lowest first", [F("klass").asc(nulls_last=True), F("process__name").asc(),
-                                      F("sequence").asc()]),
+    # By class, then in the order the steps were entered: one index of the current
+    # snapshots gives that order (a tie-break by process name would sort every step).
+    "-klass": ("Class, highest first", [F("klass").desc(nulls_last=True), F("pk").desc()]),
+    "klass": ("Class, lowest first (unassigned first)", [F("klass").asc(nulls_first=True),
+                                                         F("pk").asc()]),
     "name": ("Step name", [F("name").asc()]),
     "-updated": ("Recently changed", [F("updated_at").desc()]),
 }

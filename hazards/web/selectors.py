@@ -24,10 +24,12 @@ from hazards.review.models import (
 def with_current_class(queryset):
     """Steps with `klass`, their current class, read by a join on the current-snapshot index
     (one unique row per step), not a subquery per row."""
-    return queryset.annotate(
-        current=FilteredRelation("snapshots", condition=Q(snapshots__is_current=True)),
-        klass=F("current__criticality_class"),
-    )
+    # An inner join (every step has its current snapshot: the recompute guard sees to it),
+    # so that PostgreSQL may start from the snapshot's class index when sorting by class.
+    return (queryset.alias(current=FilteredRelation("snapshots",
+                                                    condition=Q(snapshots__is_current=True)))
+            .filter(current__id__isnull=False)
+            .annotate(klass=F("current__criticality_class")))
 
 
 def steps_with_class(user):
