@@ -279,9 +279,11 @@ def on_approved_inputs_changed(sender, *, using="default", steps, snapshots, pre
 
 def describe(record: ChangeRecord) -> str:
     """One paragraph people can read: what changed, which indicators moved, the class."""
-    parts = [f"{k}: {v['old']!r} → {v['new']!r}" for k, v in record.changes.items()]
-    moved = [k for k, v in record.indicators.items() if v.get("beyond_tolerance")]
-    text = "Changed: " + ("; ".join(parts) if parts else "back to the approved inputs") + ". "
+    from hazards.oversight import readable
+
+    changed = readable.sentence(record.changes)
+    moved = [readable.label(k) for k, v in record.indicators.items() if v.get("beyond_tolerance")]
+    text = "Changed: " + (changed or "back to the approved inputs") + ". "
     text += ("Indicators moved beyond tolerance: " + ", ".join(moved) + ". " if moved
              else "No indicator moved beyond the site's tolerances. ")
     if record.class_changed:

@@ -1,5 +1,5 @@
 """Where the oversight app listens: the indicator recompute (every change path passes
-through it), signatures (submission, review, approval) and findings."""
+through it), signatures (submission, review, approval), findings and sites (interval)."""
 
 from __future__ import annotations
 
@@ -34,7 +34,17 @@ def _finding_saved(sender, instance, using="default", **kwargs) -> None:
         notify.later(Kind.FINDING_ASSIGNED, notify.key_of(instance), using=using)
 
 
+def _site_saved(sender, instance, created, using="default", **kwargs) -> None:
+    """A changed revalidation interval moves the due dates of the site's approvals at once
+    (in the same transaction), not at the next daily refresh."""
+    from hazards.oversight import revalidation
+
+    if not created:
+        revalidation.refresh_schedules(site_id=instance.pk, using=using)
+
+
 def connect() -> None:
+    from hazards.models import Site
     from hazards.oversight.changes import on_approved_inputs_changed
     from hazards.review.models import Finding, Signature
     from hazards.services.indicators import approved_inputs_changed
@@ -42,3 +52,4 @@ def connect() -> None:
     approved_inputs_changed.connect(on_approved_inputs_changed, dispatch_uid="oversight-changes")
     post_save.connect(_signature_saved, sender=Signature, dispatch_uid="oversight-signature")
     post_save.connect(_finding_saved, sender=Finding, dispatch_uid="oversight-finding")
+    post_save.connect(_site_saved, sender=Site, dispatch_uid="oversight-site")

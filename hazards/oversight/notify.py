@@ -112,6 +112,14 @@ def _finding_notice(finding, kind, period) -> Notice | None:
                   f"/findings/{finding.pk}/")
 
 
+REVALIDATION_TODO = (
+    "What to do: on the review page of the process (link below) an author opens a new draft "
+    "revision, checks the data and indicators of every step against the plant as it runs now, "
+    "corrects what changed (each change with its reason) and lodges the revision; a reviewer "
+    "checks it and an approver endorses it. The endorsement starts the next interval; until "
+    "then the current approval stays in force.")
+
+
 def _revalidation_notice(schedule, period) -> Notice | None:
     from hazards.oversight.dates import DEFAULT_SOURCE
     from hazards.review.models import ReviewState
@@ -126,9 +134,9 @@ def _revalidation_notice(schedule, period) -> Notice | None:
             f"({process.site.name}), given {schedule.approved_on:%Y-%m-%d}, "
             f"{'was' if overdue else 'is'} due for revalidation on {schedule.due_on:%Y-%m-%d} "
             f"(interval {schedule.interval_months} months). Default interval: "
-            f"{DEFAULT_SOURCE}")
+            f"{DEFAULT_SOURCE}\n\n{REVALIDATION_TODO}")
     return Notice(process, _people_with_roles(process.pk, KIND_ROLES[Kind.REVALIDATION_DUE]),
-                  subject, body, f"/processes/{process.pk}/")
+                  subject, body, f"/processes/{process.pk}/review/")
 
 
 def _lapsed_notice(revision) -> Notice | None:

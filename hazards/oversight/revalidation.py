@@ -39,13 +39,17 @@ def schedule_for(*, revision, signed_at, using: str = "default") -> Revalidation
     return schedule
 
 
-def refresh_schedules(*, using: str = "default") -> dict:
-    """Give every endorsed revision its schedule and follow changes of the site's interval.
-    Returns {"created": n, "updated": n}; a second run changes nothing."""
+def refresh_schedules(*, site_id: int | None = None, using: str = "default") -> dict:
+    """Give every endorsed revision (of `site_id`'s processes, or all) its schedule and follow
+    changes of the site's interval. Returns {"created": n, "updated": n}; a second run
+    changes nothing."""
     from hazards.review.models import Meaning, ReviewState, Signature
 
     approvals = (Signature.objects.using(using)
-                 .filter(meaning=Meaning.APPROVED, revision__state=ReviewState.ENDORSED)
+                 .filter(meaning=Meaning.APPROVED, revision__state=ReviewState.ENDORSED))
+    if site_id is not None:
+        approvals = approvals.filter(revision__process__site_id=site_id)
+    approvals = (approvals
                  .values_list("revision_id", "revision__process_id", "signed_at",
                               "revision__process__site__revalidation_interval_months"))
     with transaction.atomic(using=using):

@@ -4,11 +4,14 @@ from __future__ import annotations
 
 import datetime as dt
 
+from django.db import connection, transaction
 from django.utils import timezone
 from django_tasks import default_task_backend, task
 
 # The periodic refresh runs once a day at this hour (UTC).
 DAILY_AT_HOUR = 5
+# Advisory lock key of `schedule_next` (an arbitrary constant of this project).
+SCHEDULE_LOCK = 21_0009
 
 
 @task()
@@ -31,11 +34,15 @@ def schedule_next(now: dt.datetime | None = None) -> bool:
         return False
     from django_tasks_db.models import DBTaskResult
 
-    waiting = DBTaskResult.objects.filter(
-        task_path=refresh_daily.module_path, status="READY", run_after__isnull=False)
-    if waiting.exists():
-        return False
-    refresh_daily.using(run_after=next_run(now or timezone.now())).enqueue()
+    with transaction.atomic():
+        # Several workers may start at once: one at a time checks and queues.
+        with connection.cursor() as cursor:
+            cursor.execute("SELECT pg_advisory_xact_lock(%s)", [SCHEDULE_LOCK])
+        waiting = DBTaskResult.objects.filter(
+            task_path=refresh_daily.module_path, status="READY", run_after__isnull=False)
+        if waiting.exists():
+            return False
+        refresh_daily.using(run_after=next_run(now or timezone.now())).enqueue()
     return True
 
 

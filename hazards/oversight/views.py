@@ -7,7 +7,7 @@ from django.contrib.auth.decorators import login_required
 from django.shortcuts import get_object_or_404, redirect, render
 
 from hazards.access import is_administrator, processes_of
-from hazards.oversight import revalidation, services
+from hazards.oversight import readable, revalidation, services
 from hazards.oversight.dates import RETENTION_NOTE
 from hazards.oversight.models import ChangeRecord, Kind
 
@@ -48,9 +48,14 @@ def change_list(request):
 
 @login_required
 def change_detail(request, pk):
-    record = get_object_or_404(_changes(request.user), pk=pk)
+    record = get_object_or_404(_changes(request.user).select_related("opened_by"), pk=pk)
+    entries = [{"at": e.at, "who": readable.person(e.user), "url": e.url, "reason": e.reason,
+                "back_to_approved": e.back_to_approved, "changes": readable.rows(e.changes)}
+               for e in record.entries.select_related("user").order_by("at", "id")]
     return render(request, "oversight/change_detail.html", {
-        "record": record, "entries": record.entries.select_related("user")})
+        "record": record, "entries": entries, "opened_by": readable.person(record.opened_by),
+        "inputs": readable.rows(record.changes),
+        "moved": readable.indicator_rows(record.indicators)})
 
 
 @login_required

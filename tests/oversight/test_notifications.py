@@ -148,7 +148,7 @@ def test_an_approval_that_no_longer_holds_tells_author_reviewers_approver_once(
     assert told("approval_lapsed") == ["approver", "author", "reviewer", "reviewer2"]
     mails = [m for m in mailoutbox if "Changes pending against the approval" in m.subject]
     assert len(mails) == 4
-    assert "reaction_mass_kg: 5000 → 4000" in mails[0].body, mails[0].body
+    assert "Reaction mass (plant scale): 5000 kg → 4000 kg" in mails[0].body, mails[0].body
     assert "Reason: pilot." in mails[0].body
 
 
