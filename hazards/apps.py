@@ -7,4 +7,10 @@ class HazardsConfig(AppConfig):
     default_auto_field = "django.db.models.BigAutoField"
 
     def ready(self) -> None:
+        from django.db.models.signals import post_migrate
+
         from hazards import checks  # noqa: F401  (registers system checks)
+        from hazards.dbroles import ensure_app_role_after_migrate
+
+        # After every migrate, as the owner: the application's role and its grants.
+        post_migrate.connect(ensure_app_role_after_migrate, sender=self)

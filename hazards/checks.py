@@ -25,3 +25,28 @@ def seal_key_differs_from_secret_key(app_configs=None, **kwargs):
             )
         ]
     return []
+
+
+@register(deploy=True)
+def application_role_cannot_rewrite_history(app_configs=None, **kwargs):
+    """The application must not connect as a superuser or the owner of the audit tables.
+
+    Asked of the database; skipped when it cannot be reached (the other deployment checks
+    need none)."""
+    from django.db import DatabaseError
+
+    from hazards.dbroles import role_problems
+
+    try:
+        problems = role_problems("default")
+    except DatabaseError:
+        return []
+    return [
+        Warning(
+            f"{problem}: it could rewrite the audit trail.",
+            hint="Connect as the restricted role (EXOLEDGER_DB_APP_ROLE, created and granted "
+            "by `manage.py migrate` run as the owner in DATABASE_URL); see the README.",
+            id="exoledger.W002",
+        )
+        for problem in problems
+    ]

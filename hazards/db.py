@@ -14,6 +14,9 @@ from django.core.exceptions import ImproperlyConfigured
 
 BASE_DIR = Path(__file__).resolve().parent.parent
 EMBEDDED_DB_NAME = "exoledger"
+# The role the application connects as: no superuser, owns nothing, and may not update,
+# delete or truncate audit events or chain links (hazards.dbroles grants it after migrate).
+DEFAULT_APP_ROLE = "exoledger_app"
 
 
 def data_dir() -> Path:
@@ -66,6 +69,34 @@ def database_settings() -> dict:
         "NAME": os.environ.get("EXOLEDGER_TEST_DB_NAME") or f"test_{config['NAME']}_{os.getpid()}"
     }
     return config
+
+
+def app_role() -> tuple[str, str]:
+    """(name, password) of the application's role: `EXOLEDGER_DB_APP_ROLE` and
+    `EXOLEDGER_DB_APP_PASSWORD` (empty: none, e.g. the embedded server's local trust)."""
+    return (os.environ.get("EXOLEDGER_DB_APP_ROLE") or DEFAULT_APP_ROLE,
+            os.environ.get("EXOLEDGER_DB_APP_PASSWORD") or "")
+
+
+def databases(*, testing: bool) -> dict:
+    """Django's DATABASES: `default` is the application's restricted role and `owner` the
+    role of DATABASE_URL that owns the tables and runs `migrate` (hazards' migrate command
+    uses it). When both are one role (EXOLEDGER_DB_APP_ROLE names the owner), or under the
+    test runner (which creates its database as the owner; tests that need the restricted
+    role open it themselves), there is only `default`."""
+    owner = database_settings()
+    role, password = app_role()
+    if testing or role == owner.get("USER"):
+        return {"default": owner}
+    app = {**owner, "USER": role, "PASSWORD": password, "OPTIONS": dict(owner["OPTIONS"])}
+    return {"default": app, "owner": owner}
+
+
+def owner_alias() -> str:
+    """The alias that owns the schema: `owner` when the application has its own role."""
+    from django.db import connections
+
+    return "owner" if "owner" in connections.settings else "default"
 
 
 def describe(config: dict) -> str:

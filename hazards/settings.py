@@ -8,7 +8,7 @@ from pathlib import Path
 
 from django.core.exceptions import ImproperlyConfigured
 
-from hazards.db import data_dir, database_settings
+from hazards.db import data_dir, databases
 from hazards.env import env_bool, env_int, env_list, env_str
 
 BASE_DIR = Path(__file__).resolve().parent.parent
@@ -103,7 +103,9 @@ TEMPLATES = [
     },
 ]
 
-DATABASES = {"default": database_settings()}
+# `default`: the application's own role, which cannot rewrite the audit trail; `owner`: the
+# role of DATABASE_URL, which owns the tables and runs migrations (hazards.db, README).
+DATABASES = databases(testing=TESTING)
 
 # The step page's charts, keyed by the inputs they are drawn from (hazards.web.indicators):
 # one file per key, shared by every worker on the host, the oldest dropped past MAX_ENTRIES.

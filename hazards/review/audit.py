@@ -74,10 +74,13 @@ def install_chain_triggers_after_migrate(sender, using="default", **kwargs) -> N
     install_chain_triggers(using=using)
 
 
-def adopt_unlinked_events() -> int:
-    """Link the events that existed before the chain did (run once, by the migration)."""
+def adopt_unlinked_events(using: str = "default") -> int:
+    """Link the events that existed before the chain did (run once, by the migration, on
+    the migrating connection: the owner's, which may not be the application's)."""
+    from django.db import connections
+
     count = 0
-    with transaction.atomic(), connection.cursor() as cursor:
+    with transaction.atomic(using=using), connections[using].cursor() as cursor:
         cursor.execute("SELECT pg_advisory_xact_lock(%s)", [CHAIN_LOCK_KEY])
         cursor.execute("SET LOCAL timezone = 'UTC'; SET LOCAL extra_float_digits = 1")
         for table in _existing_tables(cursor, [m._meta.db_table for m in event_models()]):

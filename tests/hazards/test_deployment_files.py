@@ -23,10 +23,27 @@ def test_compose_has_a_database_and_a_web_service_with_health_checks():
 
 
 def test_the_web_service_runs_gunicorn_on_the_wsgi_application_after_migrating():
-    command = _compose()["services"]["web"]["command"]
-    assert "manage.py migrate" in command
+    services = _compose()["services"]
+    command = services["web"]["command"]
+    assert "manage.py migrate" in services["migrate"]["command"]
+    assert services["web"]["depends_on"]["migrate"]["condition"] == \
+        "service_completed_successfully"
     assert "gunicorn hazards.wsgi:application" in command
     assert (ROOT / "hazards" / "wsgi.py").exists()
+
+
+def test_only_the_migration_knows_the_owner_the_application_connects_as_its_role():
+    """Issue 18 item 4: migrations as the owner, the application as a restricted role."""
+    services = _compose()["services"]
+    migrate_env = services["migrate"]["environment"]
+    assert migrate_env["DATABASE_URL"].startswith("postgres://exoledger:")
+    assert migrate_env["EXOLEDGER_DB_APP_ROLE"] == "exoledger_app"
+    assert "EXOLEDGER_DB_APP_PASSWORD" in migrate_env
+    for name in ("web", "worker"):
+        env = services[name]["environment"]
+        assert env["DATABASE_URL"].startswith("postgres://exoledger_app:"), name
+        assert env["EXOLEDGER_DB_APP_ROLE"] == "exoledger_app", name
+        assert "POSTGRES_PASSWORD" not in str(env), name
 
 
 def test_the_web_service_sets_every_variable_production_settings_require():

@@ -47,7 +47,7 @@ def link_existing(apps, schema_editor):
                 f'CREATE OR REPLACE TRIGGER review_chain_link AFTER INSERT ON "{table}" '
                 "FOR EACH ROW EXECUTE FUNCTION review_chain_append()"
             )
-    audit.adopt_unlinked_events()
+    audit.adopt_unlinked_events(using=schema_editor.connection.alias)
 
 
 class Migration(migrations.Migration):
