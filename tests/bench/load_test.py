@@ -109,6 +109,9 @@ def clone_database(source_url: str, target_url: str) -> None:
                     b"", dump.stdout)
     subprocess.run([pg_bin("psql"), "-q", "-v", "ON_ERROR_STOP=1", "-d", target_url],
                    input=script, capture_output=True, check=True, timeout=120)
+    # The dump carries neither owners nor grants: `migrate`, run as the owner, creates the
+    # application's role on that server if needed and grants it its rights (hazards.dbroles).
+    migrate(target_url)
 
 
 def subprocess_env(**extra) -> dict:
