@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from django.contrib import admin
 
+from hazards import admin_users  # noqa: F401  (people: no password set by others)
 from hazards import models as m
 from hazards.forms import quantity_formfield
 from hazards.services.indicators import flush_pending

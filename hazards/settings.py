@@ -258,6 +258,9 @@ DOSSIER_REISSUES_PER_DAY = env_int("EXOLEDGER_DOSSIER_REISSUES_PER_DAY", 20, min
 DOSSIER_CHART_PROCESSES = env_int(
     "EXOLEDGER_DOSSIER_CHART_PROCESSES", min(os.cpu_count() or 1, 4), minimum=1)
 
+# A signature made this soon after its signer's password changed says so (page, API, dossier).
+CREDENTIAL_CHANGE_HOURS = env_int("EXOLEDGER_CREDENTIAL_CHANGE_HOURS", 72, minimum=1)
+
 # API tokens live this long unless a shorter life is asked for.
 API_TOKEN_TTL_HOURS = env_int("EXOLEDGER_API_TOKEN_TTL_HOURS", 24 * 30, minimum=1)
 

@@ -8,6 +8,8 @@ from __future__ import annotations
 
 from django.apps import apps
 
+from hazards.review.selectors import credentials_changed_at, credentials_note
+
 
 def _model(name: str):
     try:
@@ -76,7 +78,9 @@ def signatures(revision) -> list[dict]:
     if Signature is None:
         return []
     out = []
-    for sig in Signature.objects.filter(revision=revision).order_by("signed_at", "pk"):
+    rows = list(Signature.objects.filter(revision=revision).order_by("signed_at", "pk"))
+    changed = credentials_changed_at(rows)
+    for sig in rows:
         meaning = getattr(sig, "get_meaning_display", None)
         out.append({
             "printed_name": sig.printed_name,
@@ -85,6 +89,9 @@ def signatures(revision) -> list[dict]:
             "signed_at": _iso(sig.signed_at),
             "content_sha256": getattr(sig, "content_sha256", ""),
             "seal": getattr(sig, "seal", ""),
+            # The signer's password changed shortly before (issue 18 item 2); "" if not.
+            "credentials_note": credentials_note(sig, changed[sig.pk])
+            if sig.pk in changed else "",
         })
     return out
 

@@ -1,3 +1,4 @@
+from hazards.models import identity  # noqa: F401  (identity changes in the trail)
 from hazards.models.indicators import IndicatorSnapshot, PendingRecompute
 from hazards.models.measurements import (
     CalorimetryRun,

@@ -8,6 +8,8 @@ import secrets
 from django.conf import settings
 from django.db import models
 
+from hazards.models.base import tracked
+
 TOKEN_PREFIX_LENGTH = 8
 
 
@@ -15,6 +17,8 @@ def hash_token(raw: str) -> str:
     return hashlib.sha256(raw.encode("utf-8")).hexdigest()
 
 
+# Issued and revoked tokens reach the trail; their use (`last_used_at`) does not.
+@tracked(exclude=["last_used_at"])
 class ApiToken(models.Model):
     user = models.ForeignKey(
         settings.AUTH_USER_MODEL, on_delete=models.CASCADE, related_name="api_tokens"
@@ -38,6 +42,7 @@ class ApiToken(models.Model):
         return secrets.token_urlsafe(32)
 
 
+@tracked()
 class ServiceAccount(models.Model):
     """A named account of another system: it reads and writes data but can never sign."""
 

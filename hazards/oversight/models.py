@@ -13,6 +13,7 @@ from django.db.models.functions import Now
 from hazards.models.base import tracked
 
 
+@tracked()
 class ChangePolicy(models.Model):
     """How a site treats changes to approved steps, and how early it is reminded.
 

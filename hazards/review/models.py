@@ -392,6 +392,7 @@ class ChainPending(models.Model):
         return f"{self.event_table} event {self.event_id} awaiting its link"
 
 
+@tracked()
 class SigningLockout(models.Model):
     """Failed password re-entries at signing, per person; too many lock signing for a while."""
 

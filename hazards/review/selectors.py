@@ -240,3 +240,32 @@ def _describe(row: dict) -> str:
     if "class" in row:
         names.append(f"class {row['class']['approved']} → {row['class']['current']}")
     return f"{row['step']} ({', '.join(names)})"
+# --- credentials changed shortly before a signature (issue 18 item 2) ----------------------
+
+CREDENTIALS_CHANGED = ("The signer's password was changed {hours} h before this signature "
+                       "(at {at} UTC).")
+
+
+def credentials_changed_at(signatures) -> dict[int, object]:
+    """For each signature, the latest change of its signer's password within
+    `EXOLEDGER_CREDENTIAL_CHANGE_HOURS` before it (from the audit trail); absent if none."""
+    from datetime import timedelta
+
+    from django.apps import apps
+    from django.conf import settings
+
+    window = timedelta(hours=settings.CREDENTIAL_CHANGE_HOURS)
+    events = apps.get_model("hazards", "UserPasswordEvent").objects
+    found = {}
+    for sig in signatures:
+        at = (events.filter(id=sig.signer_id, pgh_created_at__lte=sig.signed_at,
+                            pgh_created_at__gte=sig.signed_at - window)
+              .order_by("-pgh_created_at").values_list("pgh_created_at", flat=True).first())
+        if at is not None:
+            found[sig.pk] = at
+    return found
+
+
+def credentials_note(signature, changed_at) -> str:
+    hours = max(0.0, (signature.signed_at - changed_at).total_seconds() / 3600)
+    return CREDENTIALS_CHANGED.format(hours=f"{hours:.1f}", at=f"{changed_at:%Y-%m-%d %H:%M}")

@@ -4,6 +4,7 @@ database decides (states, times, hashes, seals, signers) is read-only."""
 from __future__ import annotations
 
 from django.contrib.auth import get_user_model
+from drf_spectacular.utils import extend_schema_field
 from rest_framework import serializers
 
 from hazards.models import Process
@@ -16,6 +17,7 @@ from hazards.review.models import (
     Signature,
     Transition,
 )
+from hazards.review.selectors import credentials_changed_at
 from hazards.review.signing import iso, seal_verifies
 
 
@@ -29,15 +31,24 @@ class SignatureSerializer(serializers.ModelSerializer):
     signed_at = UtcDateTimeField(read_only=True)
     meaning_text = serializers.CharField(source="get_meaning_display", read_only=True)
     seal_verifies = serializers.SerializerMethodField()
+    credentials_changed_at = serializers.SerializerMethodField(
+        help_text="When the signer's password changed, if within "
+                  "EXOLEDGER_CREDENTIAL_CHANGE_HOURS before this signature; else null.")
 
     class Meta:
         model = Signature
         fields = ["id", "revision", "signer", "printed_name", "meaning", "meaning_text",
-                  "signed_at", "content_sha256", "seal", "seal_verifies"]
+                  "signed_at", "content_sha256", "seal", "seal_verifies",
+                  "credentials_changed_at"]
         read_only_fields = fields
 
     def get_seal_verifies(self, signature) -> bool:
         return seal_verifies(signature)
+
+    @extend_schema_field(serializers.DateTimeField(allow_null=True))
+    def get_credentials_changed_at(self, signature):
+        at = credentials_changed_at([signature]).get(signature.pk)
+        return None if at is None else UtcDateTimeField().to_representation(at)
 
 
 class TransitionSerializer(serializers.ModelSerializer):

@@ -28,7 +28,13 @@ from hazards.review.models import (
     Role,
     Signature,
 )
-from hazards.review.selectors import approval_status, content_diff, record_history
+from hazards.review.selectors import (
+    approval_status,
+    content_diff,
+    credentials_changed_at,
+    credentials_note,
+    record_history,
+)
 from hazards.review.services import findings as finding_services
 from hazards.review.services import revisions as rev
 from hazards.review.signing import printed_name
@@ -154,6 +160,17 @@ def last_approved(process, exclude=None):
     return qs.order_by("-number").first()
 
 
+def _with_credential_notes(signatures) -> list:
+    """Signatures, each with `credentials_note` when its signer's password changed shortly
+    before it (issue 18 item 2)."""
+    signatures = list(signatures)
+    changed = credentials_changed_at(signatures)
+    for sig in signatures:
+        sig.credentials_note = (credentials_note(sig, changed[sig.pk])
+                                if sig.pk in changed else "")
+    return signatures
+
+
 def _review_context(request, process, revision, **extra):
     baseline = last_approved(process, exclude=revision) if revision else None
     diff = None
@@ -164,7 +181,8 @@ def _review_context(request, process, revision, **extra):
     context = {
         "process": process, "revision": revision, "baseline": baseline, "diff": diff,
         "approval": approval_status(process),
-        "signatures": Signature.objects.filter(revision=revision).select_related("signer")
+        "signatures": _with_credential_notes(
+            Signature.objects.filter(revision=revision).select_related("signer"))
         if revision else [],
         "transitions": revision.transitions.select_related("actor").order_by("at", "id")
         if revision else [],
