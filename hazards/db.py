@@ -93,7 +93,8 @@ def databases(*, testing: bool) -> dict:
 
 
 def owner_alias() -> str:
-    """The alias that owns the schema: `owner` when the application has its own role."""
+    """The alias that owns the schema: `owner` when the application has its own role
+    (`migrate` itself points `default` at the owner while it runs)."""
     from django.db import connections
 
     return "owner" if "owner" in connections.settings else "default"
