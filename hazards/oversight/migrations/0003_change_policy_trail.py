@@ -9,7 +9,7 @@ from django.db import migrations, models
 class Migration(migrations.Migration):
 
     dependencies = [
-        ('hazards', '0010_identity_trail'),
+        ('hazards', '0011_identity_trail'),
         ('oversight', '0002_event_record_index'),
         ('pghistory', '0007_auto_20250421_0444'),
     ]

@@ -14,7 +14,7 @@ class Migration(migrations.Migration):
 
     dependencies = [
         ('auth', '0012_alter_user_first_name_max_length'),
-        ('hazards', '0009_event_record_index'),
+        ('hazards', '0010_snapshot_class_step_index'),
         ('pghistory', '0007_auto_20250421_0444'),
         migrations.swappable_dependency(settings.AUTH_USER_MODEL),
     ]

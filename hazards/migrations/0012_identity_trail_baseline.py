@@ -45,7 +45,7 @@ def record_baseline(apps, schema_editor):
 
 class Migration(migrations.Migration):
     dependencies = [
-        ("hazards", "0010_identity_trail"),
+        ("hazards", "0011_identity_trail"),
         ("oversight", "0003_change_policy_trail"),
         ("review", "0009_signing_lockout_trail"),
     ]
