@@ -10,6 +10,7 @@ import numpy as np
 
 from calcs import criticality as crit
 from calcs._scenario_edges import _extrapolation, _mtsr_from_entered_accumulation
+from calcs._scenario_kinetics import kinetic_td24, kinetic_tmr_at_mtsr
 from calcs._scenario_vessel import _cooling, _end_pressure, _mtt, _solvent
 from calcs.accumulation import analyse_accumulation
 from calcs.constants import DAY, R
@@ -50,6 +51,7 @@ class _Ctx:
     specific_heat: float | None = None
     series_peak_w_per_kg: float | None = None
     lowest_measured_k: float | None = None  # lowest temperature the decomposition data saw
+    kinetics: Any = None  # the fitted decomposition model TD24 came from, if any
 
     def ref(self, *keys: str) -> None:
         self.refs.extend(k for k in keys if k not in self.refs)
@@ -193,6 +195,8 @@ def _td24(c: _Ctx) -> None:
     ea, tref, qref = s.activation_energy_j_per_mol, s.reference_temperature_k, \
         s.heat_release_rate_at_reference_w_per_kg
     peaks = s.peak_temperatures or ()
+    if kinetic_td24(c):
+        return
     if ea is not None and tref is not None and qref is not None:
         c.q_model, method = (ea, tref, qref), "td24.kinetic"
         c.ref("townsend_tou1980")
@@ -259,7 +263,9 @@ def _tmr_and_class(c: _Ctx) -> None:
     s, out = c.s, c.out
     tp, mtsr, td = s.process_temperature_k, out.get("mtsr_k"), out.get("td24_k")
     cp = s.specific_heat_capacity_j_per_kg_k
-    if c.q_model is not None and mtsr is not None and cp is not None:
+    if kinetic_tmr_at_mtsr(c):
+        pass
+    elif c.q_model is not None and mtsr is not None and cp is not None:
         out["tmr_ad_at_mtsr_s"] = tmr_zero_order_at(mtsr, cp, *c.q_model)
         c.methods["tmr_ad_at_mtsr"] = "tmr.zero_order"
         if s.decomposition_energy_j_per_kg:

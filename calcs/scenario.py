@@ -26,7 +26,10 @@ MTT                override; open: boiling point at the operating pressure
 TD24               kinetic (E_a, T_ref, q_ref); Kissinger fit of peaks + energy;
                    φ-corrected adiabatic onset (Fisher-Goetz, q from the
                    detection threshold); DSC-onset screening estimate
-TMR_ad at MTSR     zero order from the same q(T) as TD24
+TD24 (curves)      adiabatic simulation of the rate model fitted to the test's
+                   curves, φ = 1 ("td24.adiabatic_simulation.<model>"), first
+TMR_ad at MTSR     the same simulation where TD24 came from it, else zero order
+                   from the same q(T) as TD24
 =================  ==============================================================
 
 The implementation is split: the indicator steps live in
@@ -69,6 +72,18 @@ class SeriesInputs:
 
 
 @dataclass(frozen=True)
+class DecompositionKinetics:
+    """A rate model fitted to a decomposition test's curves (:mod:`calcs.kinetic_fit`)."""
+
+    model: str  # a key of calcs.rate_models.RATE_MODELS
+    parameters: tuple[float, ...]  # E [J/mol], ln k_ref, n[, log10 z]
+    reference_temperature_k: float
+    covariance: tuple[tuple[float, ...], ...] | None = None
+    lowest_measured_k: float | None = None
+    files_sha256: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
 class StepInputs:
     """Inputs of one reaction step, SI floats; ``None`` where unknown."""
 
@@ -105,6 +120,7 @@ class StepInputs:
     # vessel then counts pad and released gas only (without it, no vapour data = MTT unknown)
     non_volatile_declared: bool = False
     initial_mass_fraction: float | None = None  # m_0/m_final of a semi-batch step, (0, 1]
+    decomposition_kinetics: DecompositionKinetics | None = None  # fitted from the curves
 
 
 _SEVERITY = {"3-level": SEVERITY_3, "4-level": SEVERITY_4}

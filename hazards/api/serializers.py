@@ -261,7 +261,9 @@ class StepSerializer(RecordSerializer):
 class CalorimetryRunSerializer(RecordSerializer):
     step = serializers.PrimaryKeyRelatedField(queryset=ReactionStep.objects.all())
     specific_reaction_heat = QuantityField(
-        "specific_energy", source="specific_reaction_heat_j_per_kg"
+        "specific_energy", source="specific_reaction_heat_j_per_kg", required=False,
+        allow_null=True, help_text="Q′; may be left out when the run's series follows "
+        "(`series/` derives it).",
     )
     max_accumulation = QuantityField("fraction", required=False, allow_null=True)
     max_heat_release_rate = QuantityField(
@@ -287,8 +289,18 @@ class CalorimetryRunSerializer(RecordSerializer):
 
 class DecompositionTestSerializer(RecordSerializer):
     step = serializers.PrimaryKeyRelatedField(queryset=ReactionStep.objects.all())
-    onset_temperature = QuantityField("temperature", source="onset_temperature_k")
-    decomposition_energy = QuantityField("specific_energy", source="decomposition_energy_j_per_kg")
+    onset_temperature = QuantityField(
+        "temperature", source="onset_temperature_k", required=False, allow_null=True,
+        help_text="Typed, or derived from the curves (`curves/`): the extrapolated onset of "
+        "the slowest scan.")
+    decomposition_energy = QuantityField(
+        "specific_energy", source="decomposition_energy_j_per_kg", required=False,
+        allow_null=True, help_text="Typed, or derived from the curves: the mean energy of "
+        "the scans.")
+    kinetics = serializers.SerializerMethodField(
+        help_text="Kinetics from the curves: the chosen model, its parameters with units and "
+        "standard errors, fit statistics, the model comparison and the autocatalysis screen; "
+        "`status` says what is missing until scans at 3 heating rates exist.")
     heating_rate = QuantityField(
         "heating_rate", source="heating_rate_k_per_s", required=False, allow_null=True
     )
@@ -311,9 +323,37 @@ class DecompositionTestSerializer(RecordSerializer):
             "id", "step", "method", "test_date", "instrument", "sample_mass", "heating_rate",
             "crucible", "onset_temperature", "decomposition_energy", "activation_energy",
             "reference_temperature", "heat_release_rate_at_reference", "phi_factor", "is_basis",
-            "notes",
+            "notes", "kinetics",
         ]
         validators: list = []  # one basis per step: see CalorimetryRunSerializer
+
+    @extend_schema_field({"type": "object", "additionalProperties": True})
+    def get_kinetics(self, test) -> dict:
+        return kinetics_payload(test.kinetics or {})
+
+
+def kinetics_payload(k: dict) -> dict:
+    """The public shape of `DecompositionTest.kinetics` (no covariance matrix or E(α) arrays
+    beyond what a reader needs)."""
+    if not k:
+        return {"status": "no curves"}
+    if k.get("status") != "fitted":
+        return {"status": k.get("status"), "files_sha256": k.get("files_sha256", [])}
+    chosen = k["fits"][k["model"]]
+    return {
+        "status": "fitted", "model": k["model"], "f_alpha": chosen["f_alpha"],
+        "method": chosen["method"], "parameters": chosen["parameters"],
+        "pre_exponential_per_s": chosen["pre_exponential_per_s"],
+        "reference_temperature_k": chosen["reference_temperature_k"],
+        "statistics": chosen["statistics"], "comparison": k["choice"],
+        "autocatalysis_screen": k["screen"], "alternatives": {
+            name: {"parameters": f["parameters"], "statistics": f["statistics"]}
+            for name, f in k["fits"].items() if name != k["model"]},
+        "e_alpha": {m: {"mean_j_per_mol": p["mean_j_per_mol"], "spread": p["spread"],
+                        "warnings": p["warnings"]} for m, p in k["e_alpha"].items()},
+        "lowest_measured_temperature_k": k.get("lowest_measured_k"),
+        "files_sha256": k["files_sha256"], "calcs_version": k.get("calcs_version"),
+    }
 
 
 class IndicatorSnapshotSerializer(serializers.ModelSerializer):

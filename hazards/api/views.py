@@ -17,7 +17,7 @@ from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from hazards.access import ProcessRolePermission, visible
-from hazards.api import exchange_api, filters, series_api
+from hazards.api import curves_api, exchange_api, filters, series_api
 from hazards.api import serializers as s
 from hazards.api.concurrency import ETagMixin, stale
 from hazards.api.errors import PROBLEM_TYPES
@@ -194,6 +194,21 @@ class DecompositionTestViewSet(RecordViewSet):
     serializer_class = s.DecompositionTestSerializer
     filterset_class = filters.DecompositionTestFilter
     ordering_fields = ["test_date", "id"]
+    idempotent_actions = ("create", "curves")
+    extra_problems = {"curves": {400: ["series_rejected"]}}
+
+    @extend_schema(methods=["GET"], responses={200: curves_api.DecompositionCurveSerializer(many=True)},
+                   description=curves_api.GET_DOC, filters=False)
+    @extend_schema(methods=["POST"],
+                   request={"multipart/form-data": curves_api.DecompositionCurveUploadSerializer},
+                   responses={201: curves_api.DecompositionCurveSerializer},
+                   description=curves_api.POST_DOC, filters=False)
+    @action(detail=True, methods=["get", "post"], url_path="curves", filter_backends=[],
+            pagination_class=None, parser_classes=[LimitedMultiPartParser],
+            permission_classes=[permissions.IsAuthenticated, curves_api.CurvePermission,
+                                ProcessRolePermission])
+    def curves(self, request, pk=None):
+        return curves_api.curves_view(self, request)
 
 
 class ProblemTypesView(APIView):

@@ -1,8 +1,10 @@
 from hazards.models import identity  # noqa: F401  (identity changes in the trail)
 from hazards.models.indicators import IndicatorSnapshot, PendingRecompute
 from hazards.models.measurements import (
+    BaselineMethod,
     CalorimetryRun,
     CalorimetrySeries,
+    DecompositionCurve,
     DecompositionPeak,
     DecompositionTest,
 )
@@ -12,8 +14,10 @@ from hazards.models.tokens import ApiToken, ServiceAccount
 
 __all__ = [
     "ApiToken",
+    "BaselineMethod",
     "CalorimetryRun",
     "CalorimetrySeries",
+    "DecompositionCurve",
     "DecompositionPeak",
     "DecompositionTest",
     "IndicatorSnapshot",

@@ -17,7 +17,8 @@ class CalorimetryRun(InputModel):
     instrument = models.CharField(max_length=120, blank=True)
     run_date = models.DateField(null=True, blank=True)
     lab_scale_kg = models.FloatField(null=True, blank=True)
-    specific_reaction_heat_j_per_kg = models.FloatField()
+    # Null until a calorimeter series derives it (a run may be created before its series).
+    specific_reaction_heat_j_per_kg = models.FloatField(null=True, blank=True)
     max_accumulation = models.FloatField(null=True, blank=True)
     max_heat_release_rate_w_per_kg = models.FloatField(null=True, blank=True)
     gas_release_mol_per_kg = models.FloatField(null=True, blank=True)
@@ -34,7 +35,8 @@ class CalorimetryRun(InputModel):
         indexes = [models.Index(fields=["run_date", "id"], name="run_date_idx")]
         constraints = [
             models.CheckConstraint(
-                condition=Q(specific_reaction_heat_j_per_kg__gte=0),
+                condition=Q(specific_reaction_heat_j_per_kg__isnull=True)
+                | Q(specific_reaction_heat_j_per_kg__gte=0),
                 name="calorimetry_heat_released_positive",
                 violation_error_message="Store the heat released as a positive number.",
             ),
@@ -81,14 +83,18 @@ class DecompositionTest(InputModel):
     sample_mass_kg = models.FloatField(null=True, blank=True)
     heating_rate_k_per_s = models.FloatField(null=True, blank=True)
     crucible = models.CharField(max_length=120, blank=True)
-    onset_temperature_k = models.FloatField()
-    decomposition_energy_j_per_kg = models.FloatField()
+    # Typed, or derived from the test's curves; null until a curve arrives.
+    onset_temperature_k = models.FloatField(null=True, blank=True)
+    decomposition_energy_j_per_kg = models.FloatField(null=True, blank=True)
     activation_energy_j_per_mol = models.FloatField(null=True, blank=True)
     reference_temperature_k = models.FloatField(null=True, blank=True)
     heat_release_rate_at_reference_w_per_kg = models.FloatField(null=True, blank=True)
     phi_factor = models.FloatField(null=True, blank=True)
     is_basis = models.BooleanField(default=False)
     notes = models.TextField(blank=True, validators=[MaxLengthValidator(10000)])
+    # Derived from the curves (hazards.services.curves_store): the fitted models, the chosen
+    # one, E(α) and the autocatalysis screen; empty without curves.
+    kinetics = models.JSONField(default=dict, blank=True)
 
     class Meta:
         ordering = ["step_id", "-test_date", "-id"]
@@ -96,10 +102,12 @@ class DecompositionTest(InputModel):
         indexes = [models.Index(fields=["test_date", "id"], name="test_date_idx")]
         constraints = [
             models.CheckConstraint(
-                condition=Q(onset_temperature_k__gt=0), name="decomposition_onset_absolute"
+                condition=Q(onset_temperature_k__isnull=True) | Q(onset_temperature_k__gt=0),
+                name="decomposition_onset_absolute",
             ),
             models.CheckConstraint(
-                condition=Q(decomposition_energy_j_per_kg__gte=0),
+                condition=Q(decomposition_energy_j_per_kg__isnull=True)
+                | Q(decomposition_energy_j_per_kg__gte=0),
                 name="decomposition_energy_released_positive",
             ),
             models.CheckConstraint(
@@ -159,6 +167,46 @@ class DecompositionPeak(InputModel):
                 fields=["test", "heating_rate_k_per_s"], name="peak_one_per_heating_rate"
             ),
         ]
+
+
+class BaselineMethod(models.TextChoices):
+    SIGMOIDAL = "sigmoidal", "Sigmoidal"
+    LINEAR = "linear", "Linear"
+
+
+@tracked(exclude=["original"])
+class DecompositionCurve(InputModel):
+    """One measured curve of a decomposition test: a DSC scan or an adiabatic run."""
+
+    test = models.ForeignKey(DecompositionTest, on_delete=models.CASCADE, related_name="curves")
+    file_name = models.CharField(max_length=255)
+    original = models.BinaryField()
+    sha256 = models.CharField(max_length=64)
+    columns = models.JSONField(default=dict)  # column name -> unit as written in the file
+    data = models.JSONField()  # time_s, temperature_k, heat_flow_w | pressure_pa
+    sample_mass_kg = models.FloatField()
+    exotherm_positive = models.BooleanField(default=True)
+    phi_factor = models.FloatField(null=True, blank=True)
+    baseline = models.CharField(max_length=10, choices=BaselineMethod.choices,
+                                default=BaselineMethod.SIGMOIDAL)
+    limit_low_k = models.FloatField(null=True, blank=True)
+    limit_high_k = models.FloatField(null=True, blank=True)
+    derived = models.JSONField(default=dict)
+
+    class Meta:
+        ordering = ["test_id", "id"]
+        constraints = [
+            models.CheckConstraint(condition=Q(sample_mass_kg__gt=0), name="curve_sample_mass_positive"),
+            models.CheckConstraint(condition=Q(phi_factor__isnull=True) | Q(phi_factor__gte=1),
+                                   name="curve_phi_at_least_one"),
+            models.CheckConstraint(
+                condition=Q(limit_low_k__isnull=True) | Q(limit_high_k__isnull=True)
+                | Q(limit_low_k__lt=models.F("limit_high_k")),
+                name="curve_limits_ordered"),
+        ]
+
+    def __str__(self) -> str:
+        return self.file_name
 
 
 @tracked(exclude=["original"])

@@ -13,6 +13,7 @@ from hazards.models.indicators import PendingRecompute
 from hazards.models.measurements import (
     CalorimetryRun,
     CalorimetrySeries,
+    DecompositionCurve,
     DecompositionPeak,
     DecompositionTest,
 )
@@ -86,6 +87,15 @@ _register(
         "SELECT r.step_id, now() FROM hazards_calorimetryrun r WHERE r.id = NEW.run_id",
         "SELECT r.step_id, now() FROM hazards_calorimetryrun r WHERE r.id = OLD.run_id",
         CalorimetrySeries,
+    ),
+)
+_register(
+    DecompositionCurve,
+    "queue_curve_recompute",
+    _queue(
+        "SELECT t.step_id, now() FROM hazards_decompositiontest t WHERE t.id = NEW.test_id",
+        "SELECT t.step_id, now() FROM hazards_decompositiontest t WHERE t.id = OLD.test_id",
+        DecompositionCurve,
     ),
 )
 _register(

@@ -48,7 +48,8 @@ FORMAT, VERSION = "exoledger-process", 1
 CAUTION = ("These records support, and do not replace, a qualified assessment; local codes, "
            "company standards and licensed practice prevail.")
 SKIP = {"id", "created_at", "updated_at", "version", "needs_review", "approved_inputs_hash",
-        "raw_file", "original", "sha256", "data", "derived", "columns", "file_name", "owner"}
+        "raw_file", "original", "sha256", "data", "derived", "columns", "file_name", "owner",
+        "kinetics"}  # derived from decomposition curves, which are not exchanged yet
 SUFFIXES = ("_j_per_kg_k", "_w_per_m2_k", "_j_per_kg", "_w_per_kg", "_mol_per_kg", "_k_per_s",
             "_j_per_mol", "_m3", "_m2", "_kg", "_pa", "_k", "_s")
 

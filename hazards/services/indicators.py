@@ -91,7 +91,7 @@ SELECT now(),
             SELECT t.id, t.is_basis, t.method, t.onset_temperature_k,
                    t.decomposition_energy_j_per_kg, t.activation_energy_j_per_mol,
                    t.reference_temperature_k, t.heat_release_rate_at_reference_w_per_kg,
-                   t.phi_factor,
+                   t.phi_factor, t.kinetics,
                    (SELECT coalesce(json_agg(json_build_array(p.heating_rate_k_per_s,
                                                               p.peak_temperature_k)
                                              ORDER BY p.heating_rate_k_per_s), '[]'::json)
@@ -143,6 +143,22 @@ def _chosen(row: dict | None) -> str | None:
     return "marked as basis" if row["is_basis"] else "most recent"
 
 
+def _kinetics(stored: dict | None):
+    """The fitted model a test's curves gave (`DecompositionTest.kinetics`), or None."""
+    from calcs import scenario
+
+    if not stored or stored.get("status") != "fitted":
+        return None
+    cov = stored.get("covariance")
+    return scenario.DecompositionKinetics(
+        model=stored["model"], parameters=tuple(stored["parameters"]),
+        reference_temperature_k=stored["reference_temperature_k"],
+        covariance=(tuple(tuple(r) for r in cov)
+                    if cov and all(x is not None for r in cov for x in r) else None),
+        lowest_measured_k=stored.get("lowest_measured_k"),
+        files_sha256=tuple(stored.get("files_sha256") or ()))
+
+
 def case_from_row(step_id: int, step: dict, vessel: dict | None, solvent: dict | None,
                   run: dict | None, test: dict | None, current: dict | None) -> StepCase:
     """Assemble one step's cooling-failure scenario from the rows `load_cases` read."""
@@ -174,8 +190,10 @@ def case_from_row(step_id: int, step: dict, vessel: dict | None, solvent: dict |
             initial_mass_kg=run["series_initial_mass_kg"],
             feed_mass_kg=run["series_feed_mass_kg"],
         )
+    kinetics = _kinetics(test.get("kinetics"))
     scenario_inputs = scenario.StepInputs(
         **fields,
+        decomposition_kinetics=kinetics,
         solvent_antoine=scenario.AntoineInputs(**antoine) if antoine else None,
         series=series,
         peak_temperatures=tuple(peaks) or None,
@@ -187,6 +205,11 @@ def case_from_row(step_id: int, step: dict, vessel: dict | None, solvent: dict |
         "solvent_antoine": antoine,
         "series_sha256": run.get("series_sha256"),
         "peak_temperatures": [list(p) for p in peaks],
+        "decomposition_kinetics": None if kinetics is None else {
+            "model": kinetics.model, "parameters": list(kinetics.parameters),
+            "reference_temperature_k": kinetics.reference_temperature_k,
+            "lowest_measured_k": kinetics.lowest_measured_k,
+            "files_sha256": list(kinetics.files_sha256)},
         "basis": {
             "calorimetry_run": run.get("id"),
             "calorimetry_run_chosen": _chosen(run or None),

@@ -130,11 +130,15 @@ class _Problems(list):
         return SeriesParse(problems=listed)
 
 
-def _linear_to_si(column: str, unit_text: str) -> tuple[float, float]:
-    """(a, b) with si = a·x + b for the unit as written; raises ValueError with a rule."""
+def _linear_to_si(column: str, unit_text: str, target: str | None = None,
+                  example: str | None = None) -> tuple[float, float]:
+    """(a, b) with si = a·x + b for the unit as written; raises ValueError with a rule.
+
+    `target` and `example` default to the calorimeter columns' (`COLUMNS`, `EXAMPLE_UNIT`)."""
     from calcs.units import Q_, ureg
 
-    target = COLUMNS[column]
+    target = target or COLUMNS[column]
+    example = example or EXAMPLE_UNIT[column]
     if target == "dimensionless" and unit_text.strip().lower() in DIMENSIONLESS:
         return 1.0, 0.0
     text = normalise_unit(unit_text)
@@ -146,7 +150,7 @@ def _linear_to_si(column: str, unit_text: str) -> tuple[float, float]:
         raise ValueError("is not a known unit", "unknown_unit") from None
     if unit.dimensionality != ureg.Unit(target).dimensionality:
         raise ValueError(
-            f"has the wrong dimension for {column}: expected a unit like {EXAMPLE_UNIT[column]}",
+            f"has the wrong dimension for {column}: expected a unit like {example}",
             "wrong_dimension",
         )
     # Factors from pint's definitions (NIST SP 811 / ISO 80000); offsets for °C and °F.
@@ -274,42 +278,7 @@ def parse_series(raw: bytes, *, feed_mass_kg: float | None = None,
     if problems:
         return problems.result()
 
-    values: dict[str, list[float]] = {name: [] for name in columns}
-    row_numbers: list[int] = []
-    width = len(header)
-    record = 1  # the header
-    try:
-        for cells in reader:
-            record += 1
-            if not cells or all(not c.strip() for c in cells):
-                continue  # blank lines (e.g. a trailing newline)
-            if len(row_numbers) >= max_rows:
-                problems.add(record, None, None,
-                             f"the file has more than the limit of {max_rows} data rows",
-                             "too_many_rows")
-                break
-            row_numbers.append(record)
-            if len(cells) != width:
-                problems.add(record, None, ",".join(cells)[:80],
-                             f"has {len(cells)} cells, the header has {width} (a decimal "
-                             "comma or thousands separator?)", "ragged_row")
-                continue
-            for name, (index, cell_name, _) in columns.items():
-                cell = cells[index].strip()
-                number = float(cell) if _NUMBER.match(cell) else None
-                if number is None or not math.isfinite(number):
-                    rule, code = (("must be a finite number", "not_finite") if number is not None
-                                  else _cell_problem(cell))
-                    problems.add(record, cell_name, cell, rule, code)
-                    number = math.nan
-                values[name].append(number)
-    except csv.Error as exc:
-        problems.add(record + 1, None, None, f"is not valid CSV ({exc})", "csv")
-    if not row_numbers and not problems:
-        problems.add(2, None, None, "the file has no data rows", "no_rows")
-    elif len(row_numbers) == 1 and not problems:
-        problems.add(row_numbers[0] + 1, None, None, "the file needs at least two data rows",
-                     "no_rows")
+    values, row_numbers = read_rows(reader, len(header), columns, problems, max_rows)
     if "dosed_mass" in columns and (feed_mass_kg is None or not feed_mass_kg > 0):
         problems.add(1, columns["dosed_mass"][1], None,
                      "a dosed_mass column needs the feed mass to give the dosed fraction",
@@ -349,6 +318,49 @@ def parse_series(raw: bytes, *, feed_mass_kg: float | None = None,
         rows=len(row_numbers),
         sha256=hashlib.sha256(raw).hexdigest(),
     ))
+
+
+def read_rows(reader, width: int, columns: dict, problems: _Problems, max_rows: int):
+    """Read the data rows of `columns` (name -> (index, header text, unit)) as floats.
+
+    Returns ({name: values}, the file's row number of each value); every bad cell, ragged
+    row, CSV error or missing data is added to `problems` with its row and column."""
+    values: dict[str, list[float]] = {name: [] for name in columns}
+    row_numbers: list[int] = []
+    record = 1  # the header
+    try:
+        for cells in reader:
+            record += 1
+            if not cells or all(not c.strip() for c in cells):
+                continue  # blank lines (e.g. a trailing newline)
+            if len(row_numbers) >= max_rows:
+                problems.add(record, None, None,
+                             f"the file has more than the limit of {max_rows} data rows",
+                             "too_many_rows")
+                break
+            row_numbers.append(record)
+            if len(cells) != width:
+                problems.add(record, None, ",".join(cells)[:80],
+                             f"has {len(cells)} cells, the header has {width} (a decimal "
+                             "comma or thousands separator?)", "ragged_row")
+                continue
+            for name, (index, cell_name, _) in columns.items():
+                cell = cells[index].strip()
+                number = float(cell) if _NUMBER.match(cell) else None
+                if number is None or not math.isfinite(number):
+                    rule, code = (("must be a finite number", "not_finite") if number is not None
+                                  else _cell_problem(cell))
+                    problems.add(record, cell_name, cell, rule, code)
+                    number = math.nan
+                values[name].append(number)
+    except csv.Error as exc:
+        problems.add(record + 1, None, None, f"is not valid CSV ({exc})", "csv")
+    if not row_numbers and not problems:
+        problems.add(2, None, None, "the file has no data rows", "no_rows")
+    elif len(row_numbers) == 1 and not problems:
+        problems.add(row_numbers[0] + 1, None, None, "the file needs at least two data rows",
+                     "no_rows")
+    return values, row_numbers
 
 
 def _physical_checks(si: dict, columns: dict, rows: list[int], problems: _Problems) -> None:
