@@ -25,7 +25,9 @@ from matplotlib.figure import Figure
 from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
 
 from calcs.accumulation import analyse_accumulation, mass_present
+from calcs.adiabatic_sim import tmr_line
 from calcs.constants import DAY, HOUR, T_ZERO_C, R
+from calcs.rate_models import RATE_MODELS
 from calcs.tmr import tmr_zero_order_at
 from hazards.dossier.view import scientific
 
@@ -239,6 +241,27 @@ def decomposition_model(snap: dict):
     return cp, ea, td24, q_at_td24
 
 
+def simulated_model(snap: dict):
+    """(model, parameters, T_ref, ΔT_ad) when TD24 came from a fitted model's simulation."""
+    methods, params = snap.get("methods") or {}, snap.get("parameters") or {}
+    if not str(methods.get("td24", "")).startswith("td24.adiabatic_simulation"):
+        return None
+    model = params.get("decomposition_model")
+    named = params.get("decomposition_model_parameters") or {}
+    if model not in RATE_MODELS or not all(n in named for n in RATE_MODELS[model][0]):
+        return None
+    return (model, [named[n] for n in RATE_MODELS[model][0]],
+            params["decomposition_reference_temperature_k"],
+            params["decomposition_adiabatic_rise_k"])
+
+
+def _simulated_tmr(sim, temps) -> np.ndarray:
+    """TMRad [s] by simulation on a coarse grid, interpolated in log over `temps`."""
+    grid = np.linspace(temps[0], temps[-1], 16)
+    line = np.maximum(tmr_line(*sim, grid), 1e-9)
+    return np.exp(np.interp(temps, grid, np.log(line)))
+
+
 def cooling_failure_chart(snapshot) -> str:
     """Temperature after a cooling failure: Tp, rise to MTSR, then the decomposition runaway."""
     snap = snapshot_data(snapshot)
@@ -253,7 +276,9 @@ def cooling_failure_chart(snapshot) -> str:
     # Rise of the synthesis at the peak adiabatic rate (linear: a short, conservative time).
     t_rise_h = ((mtsr - tp) / (rate / cp) / HOUR) if (rate and cp and mtsr > tp) else 0.5
     rise_note = "at the peak heat-release rate" if (rate and cp) else "schematic duration"
-    model = decomposition_model(snap)
+    model, sim = decomposition_model(snap), simulated_model(snap)
+    if model is None and sim is not None:  # E of the fitted model shapes the runaway branch
+        model = (cp, sim[1][0], td24, None)
     with matplotlib.rc_context(_RC):
         fig, ax = _figure(title)
         pre = max(0.25, 0.15 * t_rise_h)
@@ -375,18 +400,24 @@ def tmr_chart(snapshot) -> str:
     snap = snapshot_data(snapshot)
     values, inputs = snap.get("values") or {}, snap.get("inputs") or {}
     title = "TMRad against initial temperature"
-    model = decomposition_model(snap)
-    if model is None:
+    model, sim = decomposition_model(snap), simulated_model(snap)
+    td24 = values.get("td24_k")
+    if sim is None and model is None or td24 is None:
         return _message(title, "No decomposition kinetics or onset: TMRad and TD24 unknown.")
-    cp, ea, td24, q24 = model
     tp, mtsr = inputs.get("process_temperature_k"), values.get("mtsr_k")
     lo = min(v for v in (tp, mtsr, td24) if v) - 20.0
     hi = max(v for v in (tp, mtsr, td24) if v) + 30.0
     temps = np.linspace(lo, hi, 120)
-    tmr_h = np.array([tmr_zero_order_at(t, cp, ea, td24, q24) for t in temps]) / HOUR
+    if sim is not None:
+        tmr_h = _simulated_tmr(sim, temps) / HOUR
+        line_label = f"TMRad, simulated ({sim[0].replace('_', ' ')} fit)"
+    else:
+        cp, ea, td24, q24 = model
+        tmr_h = np.array([tmr_zero_order_at(t, cp, ea, td24, q24) for t in temps]) / HOUR
+        line_label = "TMRad, zero order"
     with matplotlib.rc_context(_RC):
         fig, ax = _figure(title)
-        ax.semilogy(_c(temps), tmr_h, color=INK, linestyle="-", label="TMRad, zero order")
+        ax.semilogy(_c(temps), tmr_h, color=INK, linestyle="-", label=line_label)
         ax.axhline(24, color=MID, linestyle="--", linewidth=1.0, label="24 h")
         ax.axhline(8, color=LIGHT, linestyle=":", linewidth=1.0, label="8 h")
         ax.plot([_c(td24)], [24], marker="D", color=INK, linestyle="none",
@@ -396,7 +427,8 @@ def tmr_chart(snapshot) -> str:
         # would spend most of the axis on them and squeeze the 8-24 h region.
         top = min(float(np.max(tmr_h)), TMR_CEILING_H) * 1.5
         if mtsr:
-            tm = tmr_zero_order_at(mtsr, cp, ea, td24, q24) / HOUR
+            tm = (values.get("tmr_ad_at_mtsr_s") or float(_simulated_tmr(sim, [mtsr])[0])
+                  if sim is not None else tmr_zero_order_at(mtsr, cp, ea, td24, q24)) / HOUR
             if tm <= top:
                 ax.plot([_c(mtsr)], [tm], marker="o", color=INK, markerfacecolor="white",
                         linestyle="none", label=f"MTSR {_c(mtsr):.0f} °C: {_hours(tm)} h")
@@ -421,8 +453,14 @@ def tmr_chart(snapshot) -> str:
         ax.set_ylim(min(bottom, 1.0), max(top, 100.0))
         _legend(ax)
         label = (snap.get("parameters") or {}).get("td24_label")
-        _note(fig, f"zero order, Ea {ea / 1000:.0f} kJ/mol, cp {cp / 1000:.2f} kJ/(kg·K)"
-              + (f"; TD24 is a {label}" if label else ""))
+        if sim is not None:
+            band = (snap.get("parameters") or {}).get("td24_band_k")
+            _note(fig, f"{sim[0].replace('_', ' ')} model fitted to the DSC scans, "
+                  f"Ea {sim[1][0] / 1000:.0f} kJ/mol, φ = 1"
+                  + (f"; TD24 95 % band {_c(band[0]):.1f}–{_c(band[1]):.1f} °C" if band else ""))
+        else:
+            _note(fig, f"zero order, Ea {ea / 1000:.0f} kJ/mol, cp {cp / 1000:.2f} kJ/(kg·K)"
+                  + (f"; TD24 is a {label}" if label else ""))
         return _svg(fig)
 
 

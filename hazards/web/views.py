@@ -109,7 +109,9 @@ def step_detail(request, pk):
             "feed_mass_kg": series.feed_mass_kg, "file_name": series.file_name,
         } if series else None, series_key=(
             f"{series.pk}:{series.sha256}:{series.initial_mass_kg!r}:{series.feed_mass_kg!r}:"
-            f"{series.file_name}" if series else "")),
+            f"{series.file_name}" if series else "")) + indicators.decomposition_chart_images(
+                basis_test),
+        "kinetics": (basis_test.kinetics or {}) if basis_test else {},
         "history": history, "can_edit": can_edit(request.user, step),
         "can_edit_reference": is_administrator(request.user),
         "shows_indicators": True,
