@@ -2,7 +2,7 @@
 
 from django.urls import path
 
-from hazards.web import audit, auth, edit, lists, review, upload, views
+from hazards.web import audit, auth, curve_upload, edit, lists, review, upload, views
 
 urlpatterns = [
     path("", views.home, name="home"),
@@ -28,6 +28,9 @@ urlpatterns = [
     path("steps/<int:pk>/calorimetry/upload/", upload.upload, name="web-upload"),
     path("steps/<int:pk>/calorimetry/upload/preview/", upload.preview, name="web-upload-preview"),
     path("steps/<int:pk>/calorimetry/upload/confirm/", upload.confirm, name="web-upload-confirm"),
+    path("decomposition/<int:pk>/curves/new/", curve_upload.choose, name="web-curve-choose"),
+    path("decomposition/<int:pk>/curves/preview/", curve_upload.preview, name="web-curve-preview"),
+    path("decomposition/<int:pk>/curves/confirm/", curve_upload.confirm, name="web-curve-confirm"),
     path("steps/<int:pk>/decomposition/new/", edit.decomposition_new,
          name="web-decomposition-new"),
     path("calorimetry/<int:pk>/edit/", edit.calorimetry_edit, name="web-calorimetry-edit"),
