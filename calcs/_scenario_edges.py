@@ -45,7 +45,7 @@ def _extrapolation(c: _Ctx) -> None:
     """How far TD24 and TMRad at MTSR lie below the lowest temperature the decomposition was
     measured at (METHODS.md §12.4), warned past the limit of the settings."""
     t_low, limit = c.lowest_measured_k, c.cfg.max_extrapolation_k
-    if t_low is None or c.q_model is None:
+    if t_low is None or (c.q_model is None and c.kinetics is None):
         return
     c.parameters["lowest_measured_temperature_k"] = t_low
     for key, name, label in (("td24_k", "td24_extrapolation_k", "TD24"),

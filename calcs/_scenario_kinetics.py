@@ -22,18 +22,14 @@ def kinetic_td24(c) -> bool:
         return False
     rise = q / cp
     try:
-        td = td_simulated(
-            k.model,
-            k.parameters,
-            k.reference_temperature_k,
-            rise,
-            lowest_measured_k=k.lowest_measured_k,
-        )
+        # the extrapolation distance and its warning: _scenario_edges._extrapolation
+        td = td_simulated(k.model, k.parameters, k.reference_temperature_k, rise)
     except CalcInputError as exc:
         c.warn(f"TD24 by simulation failed ({exc}); typed decomposition data used instead")
         return False
     c.methods["td24"] = f"td24.adiabatic_simulation.{k.model}"
     c.kinetics = k
+    c.lowest_measured_k = k.lowest_measured_k
     c.parameters.update(
         {
             "decomposition_model": k.model,
@@ -47,8 +43,6 @@ def kinetic_td24(c) -> bool:
     )
     for w in td.warnings:
         c.warn(w)
-    if "extrapolation_k" in td.parameters:
-        c.parameters["td24_extrapolation_k"] = td.parameters["extrapolation_k"]
     if td.value is not None and k.covariance is not None:
         band = td_uncertainty(k.model, k.parameters, k.covariance, k.reference_temperature_k, rise)
         if band.value is not None:

@@ -88,6 +88,9 @@ def test_four_scans_give_onset_energy_kinetics_and_simulated_td24_without_typing
     assert snap.parameters["decomposition_curves_sha256"] == k["files_sha256"]
     assert len(k["files_sha256"]) == 4
     assert "td24_band_k" in snap.parameters
+    # the extrapolation distance below the lowest measured temperature (METHODS.md §12.4)
+    assert snap.parameters["td24_extrapolation_k"] >= 0
+    assert snap.parameters["lowest_measured_temperature_k"] == k["lowest_measured_temperature_k"]
     assert snap.inputs["decomposition_kinetics"]["model"] == "autocatalytic"
     assert step_body["indicators"]["td24"] is not None
 

@@ -9,7 +9,7 @@ from django.db import migrations, models
 class Migration(migrations.Migration):
 
     dependencies = [
-        ('hazards', '0005_snapshot_libraries'),
+        ('hazards', '0007_step_edges_inputs'),
         ('pghistory', '0007_auto_20250421_0444'),
     ]
 
