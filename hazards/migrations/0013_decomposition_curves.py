@@ -9,7 +9,7 @@ from django.db import migrations, models
 class Migration(migrations.Migration):
 
     dependencies = [
-        ('hazards', '0010_snapshot_class_step_index'),
+        ('hazards', '0012_identity_trail_baseline'),
         ('pghistory', '0007_auto_20250421_0444'),
     ]
 
