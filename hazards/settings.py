@@ -218,6 +218,10 @@ SPECTACULAR_SETTINGS = {
     "SWAGGER_UI_FAVICON_HREF": "SIDECAR",
     "REDOC_DIST": "SIDECAR",
     "COMPONENT_SPLIT_REQUEST": True,
+    "POSTPROCESSING_HOOKS": [
+        "drf_spectacular.hooks.postprocess_schema_enums",
+        "hazards.api.schema_hooks.honour_nullable",
+    ],
     # One name per choice set, so the schema generates without warnings.
     "ENUM_NAME_OVERRIDES": {
         "ReviewStateEnum": "hazards.review.models.ReviewState",

@@ -183,6 +183,16 @@ def describe_permissions(view, method: str) -> str:
 
 
 class ExoledgerAutoSchema(AutoSchema):
+    def map_parsers(self):
+        """One request body per operation: JSON, or multipart where a file is uploaded.
+
+        DRF's default parsers would also declare form and multipart bodies for every write;
+        client generators then emit one model per media type (or always send multipart)."""
+        types = super().map_parsers()
+        if "application/json" in types:
+            return ["application/json"]
+        return [t for t in types if t == "multipart/form-data"] or types
+
     def _is_detail(self) -> bool:
         return "{" in self.path
 
