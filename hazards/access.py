@@ -183,6 +183,7 @@ class ProcessRolePermission(permissions.BasePermission):
     """
 
     message = "You have no role on this process that allows this change."
+    allows_every_read = True  # reads are limited by visible() (404), never refused
 
     def describe(self, view, method: str) -> str:
         if method in permissions.SAFE_METHODS:

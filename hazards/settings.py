@@ -230,6 +230,7 @@ SPECTACULAR_SETTINGS = {
         "DossierStatusEnum": "hazards.dossier.models.DossierStatus",
         "NotificationKindEnum": "hazards.oversight.models.Kind",
         "FindingKindEnum": "hazards.review.models.FindingKind",
+        "HistoryActionEnum": "hazards.review.serializers.HISTORY_ACTIONS",
     },
 }
 

@@ -8,8 +8,11 @@ write, so two clients holding the same ETag cannot both succeed.
 
 from __future__ import annotations
 
+import hashlib
+import json
 import re
 
+from django.core.serializers.json import DjangoJSONEncoder
 from django.db import transaction
 from rest_framework.response import Response
 
@@ -40,20 +43,42 @@ def parse_if_match(header: str | None) -> list[str]:
     return tags
 
 
-def expected_version(request, instance) -> int:
-    """The version `If-Match` vouches for; 428 without one, 412 when it is not current."""
+def _require_tag(request, current: str) -> bool:
+    """428 without `If-Match` (or with `*`); False when it names no current tag."""
     header = request.headers.get("If-Match")
     if header is None or not header.strip():
         raise ProblemError("precondition_required",
-                           f"Send If-Match: {etag_for(instance)} (the ETag you read) to change "
+                           f"Send If-Match: {current} (the ETag you read) to change "
                            "or delete this record.")
     if header.strip() == "*":
         raise ProblemError("precondition_required",
                            "If-Match: * does not say which version you edited; send its ETag.")
-    current = etag_for(instance)
-    if current not in parse_if_match(header):
+    return current in parse_if_match(header)
+
+
+def expected_version(request, instance) -> int:
+    """The version `If-Match` vouches for; 428 without one, 412 when it is not current."""
+    if not _require_tag(request, etag_for(instance)):
         raise stale(instance)
     return instance.version
+
+
+def content_etag(kind: str, key, representation) -> str:
+    """A strong ETag from the representation itself, for records without a version column
+    (findings, role grants, a person's notification preferences): any change to what a
+    client reads changes it (RFC 9110 §8.8.3)."""
+    text = json.dumps(representation, cls=DjangoJSONEncoder, sort_keys=True)
+    return f'"{kind}-{key}-{hashlib.sha256(text.encode()).hexdigest()[:20]}"'
+
+
+def require_if_match(request, current: str) -> None:
+    """The same contract as records: 428 without `If-Match`, 412 when it is not `current`.
+    Call it with the representation read under a row lock, in the write's transaction."""
+    if not _require_tag(request, current):
+        raise ProblemError(
+            "precondition_failed",
+            "The record was changed since you read it; GET it again and reapply your change.",
+            current_etag=current, headers={"ETag": current})
 
 
 def stale(instance, exc: StaleRecord | None = None) -> ProblemError:

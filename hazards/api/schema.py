@@ -19,6 +19,8 @@ from drf_spectacular.utils import OpenApiParameter
 from rest_framework import permissions, serializers
 
 from hazards.api.errors import PROBLEM_MEDIA_TYPE, PROBLEM_TYPES
+from hazards.api.idempotency import REPLAYED
+from hazards.api.pagination import SingleQueryValuesMixin
 from hazards.quantities import SPECS, display_unit
 
 # --- problem documents -------------------------------------------------------------
@@ -163,6 +165,10 @@ IDEMPOTENCY_KEY = OpenApiParameter(
 )
 
 
+RETRY_AFTER = {"schema": {"type": "integer", "minimum": 0},
+               "description": "Seconds to wait before trying again."}
+
+
 def describe_permissions(view, method: str) -> str:
     parts = []
     for perm in view.get_permissions():
@@ -205,7 +211,9 @@ class ExoledgerAutoSchema(AutoSchema):
     def get_override_parameters(self):
         params = list(super().get_override_parameters())
         if self._uses_etag():
-            action = getattr(self.view, "action", None)
+            # A plain APIView (no action) that keeps the contract reads one representation.
+            action = getattr(self.view, "action", None) or (
+                "retrieve" if self.method == "GET" else None)
             if self.method == "GET" and action == "retrieve":
                 params.append(ETAG_HEADER)
             elif self.method in ("PUT", "PATCH"):
@@ -223,39 +231,104 @@ class ExoledgerAutoSchema(AutoSchema):
         params += extra.get(getattr(self.view, "action", None) or self.method.lower(), [])
         return params
 
+    def _session_only(self) -> bool:
+        return getattr(self.view, "action", None) in getattr(self.view, "session_only_actions",
+                                                                 ())
+
+    def get_auth(self):
+        auth = super().get_auth()
+        if self._session_only():  # signing: a person signed in, never a token
+            auth = [a for a in auth if "tokenAuth" not in a]
+        return auth
+
     def get_operation(self, *args, **kwargs):
         operation = super().get_operation(*args, **kwargs)
         if operation is not None:
             text = operation.get("description", "")
             perm = describe_permissions(self.view, self.method)
+            if self._session_only():
+                perm = ("a person signed in with a session (the signing page or a session "
+                        "cookie) who re-enters the password; requests authenticated by an API "
+                        "token are refused (403), service accounts never sign")
             operation["description"] = f"{text}\n\n**Permission:** {perm}.".strip()
+            queries = [p for p in operation.get("parameters", []) if p["in"] == "query"]
+            if (self.method == "GET" or (self.method == "POST" and not self._takes_body())) \
+                    and not queries and not isinstance(self.view, SingleQueryValuesMixin) \
+                    and not self._filters_every_read():
+                operation["responses"].pop("400", None)  # nothing the request could get wrong
         return operation
 
+    def _takes_body(self) -> bool:
+        return self.method in ("POST", "PUT", "PATCH") and (
+            self.get_request_serializer() is not None)
+
+    def _filters_every_read(self) -> bool:
+        """django-filter also runs on detail routes (DRF's get_object filters the queryset),
+        so a malformed filter value is a 400 there too."""
+        return bool(getattr(self.view, "filterset_fields", None)
+                    or getattr(self.view, "filterset_class", None)) and bool(
+            getattr(self.view, "filter_backends", None))
+
+    def _reads_can_be_refused(self) -> bool:
+        """A signed-in person is refused a read only by a permission that says so; the
+        others hide what is not theirs (404) instead."""
+        return any(not isinstance(p, (permissions.IsAuthenticated, permissions.AllowAny))
+                   and not getattr(p, "allows_every_read", False)
+                   for p in self.view.get_permissions())
+
     def _error_codes(self) -> dict[int, list[str]]:
+        """The problems an operation can answer with (and only those: each is produced by
+        tests/api/test_contract.py)."""
+        perms = self.view.get_permissions()
+        public = any(isinstance(p, permissions.AllowAny) for p in perms)
+        authenticates = bool(getattr(self.view, "authentication_classes", None))
         codes: dict[int, list[str]] = {400: ["validation_error", "parse_error", "bad_request"]}
-        public = any(isinstance(p, permissions.AllowAny) for p in self.view.get_permissions())
-        codes[401] = ["not_authenticated", "authentication_failed"]
-        if not public:
-            codes[403] = ["permission_denied"]
-        else:
+        if authenticates:
+            codes[401] = ["not_authenticated", "authentication_failed"]
+        if public and not authenticates and self.method == "POST":
             codes[403] = ["permission_denied", "authentication_failed"]
+        elif not public and (self.method != "GET" or self._reads_can_be_refused()):
+            codes[403] = ["permission_denied"]
         if self._is_detail():
             codes[404] = ["not_found"]
-        if self.method in ("POST", "PUT", "PATCH"):
+        idempotent = self.method == "POST" and IDEMPOTENCY_KEY in self.get_override_parameters()
+        if self._takes_body() or idempotent:
             codes[413] = ["payload_too_large"]
+        if self._takes_body():
             codes[415] = ["unsupported_media_type"]
         if self._uses_etag() and self._write():
             codes[412] = ["precondition_failed"]
             codes[428] = ["precondition_required"]
-        for status, extra in getattr(self.view, "extra_problems", {}).get(
-            getattr(self.view, "action", None) or self.method.lower(), {}
+        action = getattr(self.view, "action", None) or self.method.lower()
+        extra_problems = getattr(self.view, "extra_problems", {})
+        for status, extra in extra_problems.get(
+            f"{action}:{self.method.lower()}", extra_problems.get(action, {})
         ).items():
             codes.setdefault(status, []).extend(extra)
-        if self.method == "POST" and IDEMPOTENCY_KEY in self.get_override_parameters():
+        if idempotent:
             codes.setdefault(409, []).append("idempotency_key_in_progress")
             codes.setdefault(422, []).append("idempotency_key_reused")
         codes[503] = ["database_unavailable"]
         return codes
+
+    def _get_response_headers_for_code(self, status_code, direction="response"):
+        headers = super()._get_response_headers_for_code(status_code, direction)
+        code = str(status_code)
+        idempotent = self.method == "POST" and IDEMPOTENCY_KEY in self.get_override_parameters()
+        if code == "503":
+            headers["Retry-After"] = {**RETRY_AFTER, "required": True}
+        elif code == "429" or (code == "409" and idempotent):
+            headers["Retry-After"] = dict(RETRY_AFTER)
+        elif code == "412" and self._uses_etag():
+            headers["ETag"] = {"schema": {"type": "string"}, "required": True,
+                               "description": "The record's current ETag."}
+        elif code.startswith("2") and idempotent:
+            headers[REPLAYED] = {
+                "schema": {"type": "string", "enum": ["true"]},
+                "description": "`true` when this is the stored response of an earlier request "
+                               "with the same Idempotency-Key (nothing was done again); absent "
+                               "otherwise."}
+        return headers
 
     def _get_response_bodies(self, direction="response"):
         responses = super()._get_response_bodies(direction)

@@ -21,7 +21,8 @@ def _null_alternative(schema: dict) -> None:
         schema["oneOf"] = [schema.pop("allOf")[0], dict(NULL_SCHEMA)]
     elif "oneOf" in schema or "anyOf" in schema:
         key = "oneOf" if "oneOf" in schema else "anyOf"
-        if not any(alt.get("enum") == [None] for alt in schema[key]):
+        if not any(alt.get("enum") == [None] or alt.get("$ref", "").endswith("/NullEnum")
+                   for alt in schema[key]):
             schema[key] = [*schema[key], dict(NULL_SCHEMA)]
     else:
         return  # no type at all: any JSON value, null included

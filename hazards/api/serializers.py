@@ -172,17 +172,31 @@ class IndicatorsSerializer(serializers.Serializer):
     td24 = QuantityField("temperature", allow_null=True, help_text="Temperature at which the "
                          "time to maximum rate under adiabatic conditions is 24 h.")
     tmr_ad_at_mtsr = QuantityField("duration_h", allow_null=True)
-    criticality_class = serializers.IntegerField(allow_null=True, min_value=1, max_value=5)
-    severity = serializers.JSONField(allow_null=True)
-    probability = serializers.JSONField(allow_null=True)
-    risk_cell = serializers.JSONField(allow_null=True)
-    cooling_margin = serializers.JSONField(allow_null=True)
+    criticality_class = serializers.IntegerField(
+        allow_null=True, min_value=1, max_value=5,
+        help_text="Criticality class of the cooling-failure scenario, 1 (least) to 5 (most "
+                  "critical), from the order of process temperature, MTSR, MTT and TD24.")
+    severity = serializers.CharField(
+        allow_null=True, help_text="Severity level from the adiabatic rise, a label of the "
+        "site's scale (3 levels: low, medium, high; 4 levels: negligible, medium, critical, "
+        "catastrophic).")
+    probability = serializers.CharField(
+        allow_null=True, help_text="Probability level from TMRad at the MTSR, a label of the "
+        "site's scale (3 levels: high, medium, low; 6 levels: frequent, probable, occasional, "
+        "seldom, remote, almost impossible).")
+    risk_cell = serializers.CharField(
+        allow_null=True, help_text="The risk-matrix cell of severity and probability, as the "
+        "site's matrix names it (e.g. acceptable, unacceptable); null when a level is unknown.")
+    cooling_margin = serializers.FloatField(
+        allow_null=True, help_text="Cooling capacity over the plant's peak heat release "
+        "(dimensionless ratio; below the configured minimum a warning is given).")
     cooling_capacity = QuantityField("power", allow_null=True)
     plant_peak_heat_release = QuantityField("power", allow_null=True)
     minimum_dosing_time = QuantityField("time", allow_null=True)
     mtsr_time = QuantityField("time", allow_null=True)
     end_pressure = QuantityField("pressure", allow_null=True)
-    td24_below_process_temperature = serializers.JSONField(allow_null=True)
+    td24_below_process_temperature = serializers.BooleanField(
+        allow_null=True, help_text="True when TD24 is below the process temperature.")
     mtt_at_ambient_pressure = QuantityField(
         "temperature", allow_null=True, help_text="Under vacuum only: the boiling point at 1 atm, "
         "the MTT if the vacuum is lost (null otherwise).")
@@ -190,14 +204,15 @@ class IndicatorsSerializer(serializers.Serializer):
         allow_null=True, min_value=1, max_value=5, help_text="Under vacuum only: the class with "
         "the MTT at 1 atm, given beside the class (null otherwise).")
     warnings = serializers.ListField(
-        child=serializers.JSONField(), help_text="What the numbers cannot say on their own, in "
+        child=serializers.CharField(), help_text="What the numbers cannot say on their own, in "
         "words: unknown inputs (e.g. MTT unknown for a closed vessel without vapour-pressure "
         "data), the basis used, extrapolation distances, and plausibility warnings that name "
         "the field, its value and the likely unit slip.")
-    methods = serializers.DictField(child=serializers.JSONField(),
+    methods = serializers.DictField(child=serializers.CharField(),
                                     help_text="Indicator -> the calcs method that produced it.")
-    parameters = serializers.DictField(child=serializers.JSONField())
-    references = serializers.ListField(child=serializers.JSONField())
+    parameters = serializers.DictField(child=serializers.JSONField(),
+                                       help_text="Parameters of the methods, SI units.")
+    references = serializers.ListField(child=serializers.CharField())
     inputs_hash = serializers.CharField(help_text="SHA-256 of the canonical JSON of the inputs.")
     calcs_version = serializers.CharField()
     libraries = serializers.DictField(

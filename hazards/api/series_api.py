@@ -106,6 +106,7 @@ class SeriesSerializer(serializers.Serializer):
 
 
 class SeriesPermission(permissions.BasePermission):
+    allows_every_read = True
     perms = ("hazards.add_calorimetryseries", "hazards.change_calorimetryrun")
 
     def has_permission(self, request, view):

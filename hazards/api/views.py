@@ -40,6 +40,8 @@ from hazards.services.records import StaleRecord, record_delete
 class ModelPermissions(permissions.DjangoModelPermissions):
     """Reading needs a login; writing needs the model's add/change/delete permission."""
 
+    allows_every_read = True
+
     perms_map = {
         **permissions.DjangoModelPermissions.perms_map,
         "GET": [],
@@ -171,7 +173,8 @@ class CalorimetryRunViewSet(RecordViewSet):
     filterset_class = filters.CalorimetryRunFilter
     ordering_fields = ["run_date", "id"]
     idempotent_inside = ("series",)
-    extra_problems = {"series": {400: ["series_rejected"], 409: ["conflict"]}}
+    extra_problems = {"series:post": {400: ["series_rejected"], 409: ["conflict"],
+                                      412: ["precondition_failed"]}}
 
     @extend_schema(methods=["GET"], responses={200: series_api.SeriesSerializer},
                    description=series_api.GET_DOC, filters=False)

@@ -9,6 +9,7 @@ from django.urls import path
 from drf_spectacular.utils import extend_schema
 from rest_framework import permissions, serializers, status, viewsets
 from rest_framework.decorators import action
+from rest_framework.generics import GenericAPIView
 from rest_framework.response import Response
 from rest_framework.routers import SimpleRouter
 from rest_framework.views import APIView
@@ -17,6 +18,7 @@ from hazards.access import visible
 from hazards.api.errors import ProblemError
 from hazards.api.idempotency import IdempotentPostMixin
 from hazards.api.parsers import LimitedFormParser, LimitedMultiPartParser
+from hazards.api.pagination import StrictLimitOffsetPagination
 from hazards.dossier.models import Dossier, DossierStatus
 from hazards.dossier.seal import verify_pdf
 from hazards.dossier.services import (
@@ -57,6 +59,26 @@ class VerifyUploadSerializer(serializers.Serializer):
     file = serializers.FileField()
 
 
+class VerifyResultSerializer(serializers.Serializer):
+    """What `hazards.dossier.seal.Verification` reports; `valid` only when every check holds."""
+
+    valid = serializers.BooleanField()
+    is_dossier = serializers.BooleanField()
+    seal_valid = serializers.BooleanField()
+    attachments_match_seal = serializers.BooleanField()
+    file_unaltered = serializers.BooleanField()
+    data_match_database = serializers.BooleanField()
+    revision_current = serializers.BooleanField(allow_null=True)
+    dossier_id = serializers.IntegerField(allow_null=True)
+    process_id = serializers.IntegerField(allow_null=True)
+    process = serializers.CharField(allow_blank=True)
+    version = serializers.IntegerField(allow_null=True)
+    revision = serializers.CharField(allow_blank=True)
+    status = serializers.CharField(allow_blank=True)
+    sha256 = serializers.CharField(allow_blank=True)
+    problems = serializers.ListField(child=serializers.CharField())
+
+
 def _visible_dossiers(user):
     processes = visible(user, Process.objects.all())
     return Dossier.objects.filter(process__in=processes).defer("pdf", "content")
@@ -68,37 +90,41 @@ class DossierViewSet(IdempotentPostMixin, viewsets.ReadOnlyModelViewSet):
     lookup_value_regex = r"\d+"  # an id that is no number is no route (404), never a 500
     filterset_fields = ["process", "status"]
     ordering_fields = ["created_at", "version", "id"]
+    extra_problems = {"pdf": {409: ["conflict"]}, "retry": {409: ["conflict"]}}
 
     def get_queryset(self):
         return _visible_dossiers(self.request.user).order_by("-created_at", "-id")
 
-    @extend_schema(responses={(200, "application/pdf"): bytes})
-    @action(detail=True, methods=["get"])
+    @extend_schema(responses={(200, "application/pdf"): bytes},
+                   description="The PDF/A file of a finished dossier (409 while it is queued, "
+                               "rendering or failed).")
+    @action(detail=True, methods=["get"], filter_backends=[])
     def pdf(self, request, pk=None):
         dossier = get_object_or_404(
             Dossier.objects.filter(pk__in=self.get_queryset().values("pk")), pk=pk
         )
         if dossier.status != DossierStatus.DONE:
-            return Response({"detail": f"The dossier is {dossier.status}.",
-                             "status": dossier.status}, status=status.HTTP_409_CONFLICT)
+            raise ProblemError("conflict", f"The dossier is {dossier.status}; only a done "
+                               "dossier has a PDF.", dossier_status=dossier.status)
         response = HttpResponse(bytes(dossier.pdf), content_type="application/pdf")
         response["Content-Disposition"] = f'attachment; filename="{dossier.file_name}"'
         response["ETag"] = f'"{dossier.sha256}"'
         response["Cache-Control"] = "private, max-age=31536000, immutable"
         return response
 
-    @extend_schema(request=None, responses=DossierSerializer)
+    @extend_schema(request=None, responses={202: DossierSerializer},
+                   description="Queue a failed dossier again (409 for any other status).")
     @action(detail=True, methods=["post"])
     def retry(self, request, pk=None):
         dossier = self.get_object()
         try:
             dossier = dossier_retry(dossier=dossier)
         except ValueError:
-            return Response({"detail": NOT_RETRYABLE}, status=status.HTTP_409_CONFLICT)
+            raise ProblemError("conflict", NOT_RETRYABLE) from None
         return Response(DossierSerializer(dossier).data, status=status.HTTP_202_ACCEPTED)
 
 
-class ProcessDossiersView(IdempotentPostMixin, APIView):
+class ProcessDossiersView(IdempotentPostMixin, GenericAPIView):
     """GET: the dossiers of a process; POST: request one of its latest revision.
 
     A re-issue while one of the same content waits in the queue returns that one (200);
@@ -107,17 +133,25 @@ class ProcessDossiersView(IdempotentPostMixin, APIView):
 
     permission_classes = [permissions.IsAuthenticated]
     extra_problems = {"post": {429: ["throttled"]}}
+    pagination_class = StrictLimitOffsetPagination
+    serializer_class = DossierSerializer
+    filter_backends: list = []
 
     def _process(self, request, pk):
         return get_object_or_404(visible(request.user, Process.objects.all()), pk=pk)
 
-    @extend_schema(responses=DossierSerializer(many=True))
+    @extend_schema(responses=DossierSerializer(many=True),
+                   description="Newest first, paginated (`?limit=&offset=`).")
     def get(self, request, pk):
         process = self._process(request, pk)
-        rows = _visible_dossiers(request.user).filter(process=process).order_by("-version")
-        return Response(DossierSerializer(rows, many=True).data)
+        rows = _visible_dossiers(request.user).filter(process=process).order_by("-version", "-id")
+        page = self.paginate_queryset(rows)
+        return self.get_paginated_response(DossierSerializer(page, many=True).data)
 
-    @extend_schema(request=DossierRequestSerializer, responses=DossierSerializer)
+    @extend_schema(request=DossierRequestSerializer,
+                   responses={200: DossierSerializer, 202: DossierSerializer},
+                   description="202: a dossier was queued; 200: the latest revision already "
+                               "has one (not reissued), which is returned.")
     def post(self, request, pk):
         process = self._process(request, pk)
         body = DossierRequestSerializer(data=request.data)
@@ -142,13 +176,18 @@ class VerifyDossierView(IdempotentPostMixin, APIView):
     permission_classes = [permissions.IsAuthenticated]
     parser_classes = [LimitedMultiPartParser, LimitedFormParser]
 
+    extra_problems = {"post": {413: ["payload_too_large"]}}
+
     @extend_schema(request={"multipart/form-data": VerifyUploadSerializer},
-                   responses={200: dict})
+                   responses={200: VerifyResultSerializer})
     def post(self, request):
         body = VerifyUploadSerializer(data=request.data)
         body.is_valid(raise_exception=True)
-        result = verify_pdf(body.validated_data["file"].read(),
-                            dossiers=_visible_dossiers(request.user))
+        upload = body.validated_data["file"]
+        if upload.size > settings.DATA_UPLOAD_MAX_MEMORY_SIZE:  # EXOLEDGER_MAX_UPLOAD_BYTES
+            raise ProblemError("payload_too_large", f"The file is larger than the limit of "
+                               f"{settings.DATA_UPLOAD_MAX_MEMORY_SIZE} bytes.")
+        result = verify_pdf(upload.read(), dossiers=_visible_dossiers(request.user))
         return Response(result.to_dict())
 
 

@@ -3,7 +3,8 @@ notification preferences. Everything is limited to the processes the person has 
 
 from __future__ import annotations
 
-from drf_spectacular.types import OpenApiTypes
+from django.contrib.auth import get_user_model
+from django.db import transaction
 from drf_spectacular.utils import OpenApiParameter, extend_schema
 from rest_framework import mixins, status, viewsets
 from rest_framework.decorators import action
@@ -12,6 +13,7 @@ from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from hazards.access import is_administrator, processes_of
+from hazards.api.concurrency import content_etag, require_if_match
 from hazards.api.idempotency import IdempotentPostMixin
 from hazards.oversight import revalidation, services
 from hazards.oversight import serializers as s
@@ -42,7 +44,7 @@ class RevalidationView(APIView):
 
     @extend_schema(
         parameters=[OpenApiParameter("within_days", int, description="window in days (90)")],
-        responses={200: OpenApiTypes.OBJECT})
+        responses={200: s.RevalidationSerializer})
     def get(self, request):
         data = revalidation.due_and_overdue(request.user, within_days=window_days(request))
         return Response({
@@ -89,28 +91,41 @@ class NotificationViewSet(IdempotentPostMixin, mixins.ListModelMixin,
         notification.refresh_from_db()
         return Response(self.get_serializer(notification).data)
 
-    @extend_schema(request=None, responses={200: OpenApiTypes.OBJECT})
-    @action(detail=False, methods=["post"], url_path="read-all")
+    @extend_schema(request=None, responses={200: s.MarkedSerializer})
+    @action(detail=False, methods=["post"], url_path="read-all", filter_backends=[])
     def read_all(self, request):
         return Response({"marked": services.notifications_mark_read(user=request.user)})
 
 
 class PreferencesView(APIView):
-    """Which kinds of notification you receive, by e-mail and in the inbox."""
+    """Which kinds of notification you receive, by e-mail and in the inbox (one row per kind,
+    a short fixed list, not paginated). GET answers with an `ETag` of the whole set; PUT and
+    PATCH change the rows given and need it in `If-Match` (428 without, 412 when stale)."""
+
+    etag_enabled = True
+
+    @staticmethod
+    def _current(user):
+        rows = s.PreferenceSerializer(services.preferences_of(user), many=True).data
+        return rows, content_etag("notification-preferences", user.pk, rows)
 
     @extend_schema(responses={200: s.PreferenceSerializer(many=True)})
     def get(self, request):
-        return Response(s.PreferenceSerializer(services.preferences_of(request.user),
-                                               many=True).data)
+        rows, etag = self._current(request.user)
+        return Response(rows, headers={"ETag": etag})
 
     @extend_schema(request=s.PreferenceSerializer(many=True),
                    responses={200: s.PreferenceSerializer(many=True)})
     def put(self, request):
         given = s.PreferenceSerializer(data=request.data, many=True)
         given.is_valid(raise_exception=True)
-        for row in given.validated_data:
-            services.preference_set(user=request.user, **row)
-        return Response(s.PreferenceSerializer(services.preferences_of(request.user),
-                                               many=True).data, status=status.HTTP_200_OK)
+        with transaction.atomic():
+            # One person's preferences change one request at a time: lock the person.
+            get_user_model().objects.select_for_update().filter(pk=request.user.pk).first()
+            require_if_match(request, self._current(request.user)[1])
+            for row in given.validated_data:
+                services.preference_set(user=request.user, **row)
+        rows, etag = self._current(request.user)
+        return Response(rows, status=status.HTTP_200_OK, headers={"ETag": etag})
 
     patch = put

@@ -26,6 +26,21 @@ class ScheduleSerializer(serializers.ModelSerializer):
                   "approved_on", "interval_months", "due_on", "state", "days_left"]
 
 
+class RevalidationSerializer(serializers.Serializer):
+    """GET /revalidation/: endorsed revisions due within the window, and those overdue."""
+
+    today = serializers.DateField()
+    within_days = serializers.IntegerField()
+    overdue = ScheduleSerializer(many=True)
+    due = ScheduleSerializer(many=True)
+    default_interval_source = serializers.CharField()
+    retention = serializers.CharField()
+
+
+class MarkedSerializer(serializers.Serializer):
+    marked = serializers.IntegerField(help_text="How many notifications were marked read.")
+
+
 class EntrySerializer(serializers.ModelSerializer):
     class Meta:
         model = ChangeEntry

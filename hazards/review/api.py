@@ -5,17 +5,20 @@ roles, and the history and differences people read. Every queryset goes through
 from __future__ import annotations
 
 from django.apps import apps
+from django.db import transaction
 from django.shortcuts import get_object_or_404
 from drf_spectacular.utils import OpenApiParameter, extend_schema
 from rest_framework import mixins, permissions, status, viewsets
 from rest_framework.decorators import action
 from rest_framework.exceptions import APIException, NotFound, ValidationError
+from rest_framework.generics import GenericAPIView
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from hazards.access import PROCESS_PATHS, REFERENCE_MODELS, change_reason, visible
 from hazards.api.idempotency import IdempotentPostMixin, idempotent
 from hazards.api.pagination import KeyedHistoryPagination
+from hazards.api.concurrency import content_etag, require_if_match
 from hazards.models import Process
 from hazards.review import errors as E
 from hazards.review import history, selectors
@@ -54,7 +57,8 @@ class RevisionViewSet(ReviewErrors, IdempotentPostMixin, mixins.ListModelMixin,
     serializer_class = s.RevisionSerializer
     filterset_fields = ["process", "state"]
     _signing = {409: ["conflict"], 429: ["throttled"]}
-    extra_problems = {"create": {409: ["conflict"]}, "submit": _signing, "review": _signing,
+    session_only_actions = ("submit", "review", "approve", "sign")
+    extra_problems = {"create": {404: ["not_found"], 409: ["conflict"]}, "submit": _signing, "review": _signing,
                       "approve": _signing, "sign": _signing, "send_back": {409: ["conflict"]}}
     ordering_fields = ["process", "number", "id"]
     idempotent_inside = ("submit", "review", "approve", "sign")
@@ -176,20 +180,54 @@ class SignatureViewSet(ReviewErrors, viewsets.ReadOnlyModelViewSet):
                        Signature.objects.select_related("revision", "signer").order_by("id"))
 
 
-class FindingViewSet(ReviewErrors, IdempotentPostMixin, mixins.ListModelMixin,
-                     mixins.RetrieveModelMixin, mixins.CreateModelMixin, mixins.UpdateModelMixin,
-                     viewsets.GenericViewSet):
+class ContentETagMixin:
+    """ETag on every read and create, If-Match on every change (428 without, 412 stale), as
+    for records; the tag is computed from the representation (`content_etag`)."""
+
+    etag_enabled = True
+    etag_kind = ""
+
+    def etag(self, instance) -> str:
+        return content_etag(self.etag_kind, instance.pk, self.read_serializer(instance).data)
+
+    def read_serializer(self, instance):
+        return self.serializer_class(instance)
+
+    def locked(self):
+        """The object, re-read under a row lock (call inside the write's transaction)."""
+        instance = self.get_object()
+        return type(instance).objects.select_for_update().get(pk=instance.pk)
+
+    def retrieve(self, request, *args, **kwargs):
+        response = super().retrieve(request, *args, **kwargs)
+        response["ETag"] = self.etag(self.get_object())
+        return response
+
+    def create(self, request, *args, **kwargs):
+        response = super().create(request, *args, **kwargs)
+        if response.status_code == 201:
+            response["ETag"] = content_etag(self.etag_kind, response.data["id"],
+                                            response.data)
+        return response
+
+
+class FindingViewSet(ReviewErrors, IdempotentPostMixin, ContentETagMixin,
+                     mixins.ListModelMixin, mixins.RetrieveModelMixin, mixins.CreateModelMixin,
+                     mixins.UpdateModelMixin, viewsets.GenericViewSet):
     """Findings with an owner, a due date, a status and a kind; changes need a reason.
 
     Segregation of duties: the owner adds notes and moves `status` to `ready_for_check`;
     only the raiser, or a reviewer or approver of the process who does not own the finding,
     resolves, withdraws or reopens it or changes its kind, owner or due date; only the raiser
     corrects the title and description (every version stays in the history). A blocking
-    finding bars endorsement until it is resolved or withdrawn."""
+    finding bars endorsement until it is resolved or withdrawn. Changes need `If-Match` with
+    the finding's ETag (428 without, 412 when stale)."""
 
     filterset_fields = ["process", "revision", "status", "kind", "owner"]
     extra_problems = {"update": {409: ["conflict"]}, "partial_update": {409: ["conflict"]},
                       "notes": {409: ["conflict"]}}
+    serializer_class = s.FindingSerializer
+    etag_kind = "finding"
 
     def get_queryset(self):
         return visible(self.request.user, Finding.objects.select_related(
@@ -198,6 +236,13 @@ class FindingViewSet(ReviewErrors, IdempotentPostMixin, mixins.ListModelMixin,
     def get_serializer_class(self):
         return s.FindingUpdateSerializer if self.action in ("update", "partial_update") \
             else s.FindingSerializer
+
+    def update(self, request, *args, **kwargs):
+        with transaction.atomic():
+            require_if_match(request, self.etag(self.locked()))
+            response = super().update(request, *args, **kwargs)
+        response["ETag"] = self.etag(self.get_object())
+        return response
 
     def perform_create(self, serializer):
         data = dict(serializer.validated_data)
@@ -225,13 +270,21 @@ class FindingViewSet(ReviewErrors, IdempotentPostMixin, mixins.ListModelMixin,
         return Response(s.FindingNoteSerializer(note).data, status=status.HTTP_201_CREATED)
 
 
-class ProcessRoleViewSet(ReviewErrors, IdempotentPostMixin, mixins.ListModelMixin,
-                         mixins.RetrieveModelMixin, mixins.CreateModelMixin,
-                         mixins.DestroyModelMixin, viewsets.GenericViewSet):
-    """Who holds which role on which process. Administrators grant and revoke, with a reason."""
+class ProcessRoleViewSet(ReviewErrors, IdempotentPostMixin, ContentETagMixin,
+                         mixins.ListModelMixin, mixins.RetrieveModelMixin,
+                         mixins.CreateModelMixin, mixins.DestroyModelMixin,
+                         viewsets.GenericViewSet):
+    """Who holds which role on which process. Administrators grant and revoke, with a reason
+    (body or `X-Change-Reason`); a revocation needs `If-Match` with the grant's ETag."""
 
     serializer_class = s.ProcessRoleSerializer
     filterset_fields = ["process", "user", "role"]
+    etag_kind = "processrole"
+
+    def destroy(self, request, *args, **kwargs):
+        with transaction.atomic():
+            require_if_match(request, self.etag(self.locked()))
+            return super().destroy(request, *args, **kwargs)
 
     def get_queryset(self):
         return visible(self.request.user, ProcessRole.objects.select_related("user"))

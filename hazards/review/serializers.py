@@ -14,6 +14,7 @@ from hazards.review.models import (
     Meaning,
     ProcessRevision,
     ProcessRole,
+    ReviewState,
     Signature,
     Transition,
 )
@@ -51,8 +52,20 @@ class SignatureSerializer(serializers.ModelSerializer):
         return None if at is None else UtcDateTimeField().to_representation(at)
 
 
+class InitialStateField(serializers.ChoiceField):
+    """A state, or null where there was none (the move that opened the revision)."""
+
+    def to_representation(self, value):
+        return value or None
+
+
 class TransitionSerializer(serializers.ModelSerializer):
-    actor = serializers.SlugRelatedField(slug_field="username", read_only=True)
+    from_state = InitialStateField(
+        choices=ReviewState.choices, allow_null=True, read_only=True,
+        help_text="The state before; null on the first transition, which opened the revision.")
+    actor = serializers.SlugRelatedField(
+        slug_field="username", read_only=True, allow_null=True,
+        help_text="Who moved it; null when the application did (its content changed).")
     at = UtcDateTimeField(read_only=True)
 
     class Meta:
@@ -65,7 +78,9 @@ class RevisionSerializer(serializers.ModelSerializer):
     signatures = SignatureSerializer(many=True, read_only=True)
     transitions = TransitionSerializer(many=True, read_only=True)
     created_at = UtcDateTimeField(read_only=True)
-    created_by = serializers.SlugRelatedField(slug_field="username", read_only=True)
+    created_by = serializers.SlugRelatedField(
+        slug_field="username", read_only=True, allow_null=True,
+        help_text="Who opened it; null when the application did (e.g. on import).")
     state_text = serializers.CharField(source="get_state_display", read_only=True)
 
     class Meta:
@@ -144,7 +159,10 @@ class FindingUpdateSerializer(FindingSerializer):
 class ProcessRoleSerializer(serializers.ModelSerializer):
     user = serializers.SlugRelatedField(slug_field="username",
                                         queryset=get_user_model().objects.all())
-    granted_by = serializers.SlugRelatedField(slug_field="username", read_only=True)
+    granted_by = serializers.SlugRelatedField(
+        slug_field="username", read_only=True, allow_null=True,
+        help_text="The administrator who granted it; null for grants made by set-up commands "
+                  "(e.g. the demo data).")
     granted_at = UtcDateTimeField(read_only=True)
     reason = serializers.CharField(write_only=True)
 
@@ -154,16 +172,29 @@ class ProcessRoleSerializer(serializers.ModelSerializer):
         read_only_fields = ["granted_by", "granted_at"]
 
 
+HISTORY_ACTIONS = [("insert", "the record was created"), ("update", "the record was changed"),
+                   ("delete", "the record was deleted")]
+
+
+class FieldChangeSerializer(serializers.Serializer):
+    def get_fields(self):
+        # "from" is a Python keyword; values are any JSON (as stored, SI units).
+        return {"from": serializers.JSONField(allow_null=True),
+                "to": serializers.JSONField(allow_null=True)}
+
+
 class HistoryRowSerializer(serializers.Serializer):
     event_id = serializers.CharField()
     at = serializers.DateTimeField()
-    model = serializers.CharField()
-    object_id = serializers.CharField()
-    action = serializers.CharField()
-    user = serializers.CharField(allow_null=True)
-    url = serializers.CharField(allow_null=True)
+    model = serializers.CharField(help_text="The record's type, e.g. `hazards.ReactionStep`.")
+    object_id = serializers.IntegerField(help_text="The record's id.")
+    action = serializers.ChoiceField(choices=HISTORY_ACTIONS)
+    user = serializers.CharField(allow_null=True, help_text="Who; null for the application.")
+    url = serializers.CharField(allow_null=True, help_text="The request that made the change.")
     reason = serializers.CharField(allow_blank=True)
-    changes = serializers.DictField(help_text="field -> {from, to}")
+    changes = serializers.DictField(
+        child=FieldChangeSerializer(),
+        help_text="Stored field name (SI unit in the name) -> `{from, to}`.")
 
 
 class HistoryPageSerializer(serializers.Serializer):

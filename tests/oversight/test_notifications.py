@@ -155,8 +155,10 @@ def test_an_approval_that_no_longer_holds_tells_author_reviewers_approver_once(
 def test_preferences_turn_a_kind_off_per_channel(process, people, mailoutbox,
                                                  django_capture_on_commit_callbacks):
     client = client_for(people["reviewer2"])
+    etag = client.get("/api/v1/notification-preferences/")["ETag"]
     response = client.put("/api/v1/notification-preferences/", [
-        {"kind": "submission_waiting", "email": False, "inbox": True}], format="json")
+        {"kind": "submission_waiting", "email": False, "inbox": True}], format="json",
+        HTTP_IF_MATCH=etag)
     assert response.status_code == 200
     row = next(r for r in response.json() if r["kind"] == "submission_waiting")
     assert row == {"kind": "submission_waiting", "label": "A submission waits for your review",

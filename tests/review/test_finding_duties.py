@@ -41,7 +41,9 @@ def blocking(process, author, reviewer):
 
 
 def _patch(user, finding, body):
-    return client_for(user).patch(f"/api/v1/findings/{finding.pk}/", body, format="json")
+    url = f"/api/v1/findings/{finding.pk}/"
+    etag = client_for(user).get(url)["ETag"]  # changes need If-Match (issue 23)
+    return client_for(user).patch(url, body, format="json", HTTP_IF_MATCH=etag)
 
 
 def test_the_owner_can_neither_close_nor_rewrite_a_blocking_finding(blocking, author):
@@ -158,12 +160,13 @@ def test_the_raiser_corrects_the_words_and_the_history_keeps_every_version(block
 def test_a_full_put_by_the_owner_repeating_the_other_fields_is_judged_by_what_changes(
     blocking, author
 ):
-    current = client_for(author).get(f"/api/v1/findings/{blocking.pk}/").json()
+    read = client_for(author).get(f"/api/v1/findings/{blocking.pk}/")
+    current = read.json()
     body = {k: current[k] for k in ("title", "description", "kind", "owner", "due_date")}
     response = client_for(author).put(
         f"/api/v1/findings/{blocking.pk}/",
         {**body, "status": "ready_for_check", "reason": "done"},
-        format="json",
+        format="json", HTTP_IF_MATCH=read["ETag"],
     )
     assert response.status_code == 200, response.content
 

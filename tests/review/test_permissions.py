@@ -12,9 +12,10 @@ from dataclasses import dataclass
 import pytest
 from django.db import transaction
 
-from hazards.api.concurrency import etag_for
+from hazards.api.concurrency import content_etag, etag_for
 from hazards.models import CalorimetryRun, Process, ReactionStep, Vessel
 from hazards.review.models import Finding, ProcessRevision
+from hazards.review.serializers import FindingSerializer
 from tests.conftest import PASSWORD, make_user
 from tests.review.conftest import AUTHOR_PERMS, client_for
 from tests.review.factories import FindingFactory, assessed_process, revision_in
@@ -79,6 +80,11 @@ def listed(response, pk) -> int:
     rows = response.json()
     rows = rows["results"] if isinstance(rows, dict) else rows
     return 200 if any(row["id"] == pk for row in rows) else 404
+
+
+def finding_etag(finding) -> str:
+    finding.refresh_from_db()
+    return content_etag("finding", finding.pk, FindingSerializer(finding).data)
 
 
 def patch(api, obj, url, data):
@@ -205,7 +211,7 @@ WRITES = [
      only({"reviewer": 201, "approver": 201}, 403)),
     ("update finding", lambda api, s, w: api.patch(
         f"/api/v1/findings/{s.finding.pk}/", {"status": "resolved", "reason": "matrix"},
-        format="json"),
+        format="json", HTTP_IF_MATCH=finding_etag(s.finding)),
      # The owner (author) marks it ready for check; only checkers settle it (issue 18).
      only({"reviewer": 200, "approver": 200}, 403)),
     ("grant role", lambda api, s, w: api.post("/api/v1/process-roles/", {

@@ -148,19 +148,22 @@ def test_an_open_blocking_finding_refuses_approval_until_resolved(process, autho
     assert refused.status_code == 409 and refused.json()["detail"] == E.OPEN_BLOCKING_FINDINGS
 
     # The owner cannot close it (issue 18 item 1); reporting it done keeps it blocking.
+    furl = f"/api/v1/findings/{finding.pk}/"
+    etag = lambda: client_for(author).get(furl)["ETag"]  # noqa: E731 - changes need If-Match
     closed = client_for(author).patch(f"/api/v1/findings/{finding.pk}/",
                                       {"status": "resolved", "reason": "interlock tested"},
-                                      format="json")
+                                      format="json", HTTP_IF_MATCH=etag())
     assert closed.status_code == 403, closed.content
     ready = client_for(author).patch(f"/api/v1/findings/{finding.pk}/",
                                      {"status": "ready_for_check", "reason": "interlock tested"},
-                                     format="json")
+                                     format="json", HTTP_IF_MATCH=etag())
     assert ready.status_code == 200, ready.content
     still = client_for(approver).post(url(checked, "approve"), {"password": PASSWORD},
                                       format="json")
     assert still.status_code == 409 and still.json()["detail"] == E.OPEN_BLOCKING_FINDINGS
     checked_by_raiser = client_for(reviewer).patch(f"/api/v1/findings/{finding.pk}/", {
-        "status": "resolved", "reason": "interlock test record seen"}, format="json")
+        "status": "resolved", "reason": "interlock test record seen"}, format="json",
+        HTTP_IF_MATCH=etag())
     assert checked_by_raiser.status_code == 200, checked_by_raiser.content
     approved = client_for(approver).post(url(checked, "approve"), {"password": PASSWORD},
                                          format="json")

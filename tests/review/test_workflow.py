@@ -161,10 +161,11 @@ def test_findings_need_a_reviewer_or_approver_and_changes_need_a_reason(process,
     assert (finding["owner"], finding["status"], finding["kind"], finding["raised_by"]) == (
         "author", "open", "blocking", "reviewer")
     url = f"/api/v1/findings/{finding['id']}/"
-    assert client_for(reviewer).patch(url, {"status": "resolved"},
-                                      format="json").status_code == 400
+    etag = by_reviewer["ETag"]
+    assert client_for(reviewer).patch(url, {"status": "resolved"}, format="json",
+                                      HTTP_IF_MATCH=etag).status_code == 400
     assert client_for(author).patch(url, {"kind": "advisory", "reason": "minor"},
-                                    format="json").status_code == 403
+                                    format="json", HTTP_IF_MATCH=etag).status_code == 403
     assert client_for(author).delete(url).status_code == 405
 
 
