@@ -10,8 +10,7 @@ tests/api/test_generated_client.py and tests/api/test_contract.py).
 
 from __future__ import annotations
 
-NULL_SCHEMA = {"type": "object", "nullable": True, "enum": [None],
-               "description": "null: no value."}
+NULL_SCHEMA = {"type": "object", "nullable": True, "enum": [None], "description": "null: no value."}
 
 
 def _null_alternative(schema: dict) -> None:
@@ -21,8 +20,10 @@ def _null_alternative(schema: dict) -> None:
         schema["oneOf"] = [schema.pop("allOf")[0], dict(NULL_SCHEMA)]
     elif "oneOf" in schema or "anyOf" in schema:
         key = "oneOf" if "oneOf" in schema else "anyOf"
-        if not any(alt.get("enum") == [None] or alt.get("$ref", "").endswith("/NullEnum")
-                   for alt in schema[key]):
+        if not any(
+            alt.get("enum") == [None] or alt.get("$ref", "").endswith("/NullEnum")
+            for alt in schema[key]
+        ):
             schema[key] = [*schema[key], dict(NULL_SCHEMA)]
     else:
         return  # no type at all: any JSON value, null included

@@ -56,8 +56,10 @@ class Contract:
         self.seen.setdefault((method, template), set()).add(response.status_code)
         declared = op["responses"].get(str(response.status_code), op["responses"].get("default"))
         if declared is None:
-            return [f"{where}: status not declared (declared: {sorted(op['responses'])}); "
-                    f"body {response.content[:300]!r}"]
+            return [
+                f"{where}: status not declared (declared: {sorted(op['responses'])}); "
+                f"body {response.content[:300]!r}"
+            ]
         found = []
         for name, header in declared.get("headers", {}).items():
             if header.get("required") and not response.has_header(name):
@@ -74,8 +76,11 @@ class Contract:
         if schema is None or not media.endswith("json"):
             return found
         body = json.loads(response.content)
-        validator = OAS30Validator(self._resolved(schema), registry=self.registry,
-                                   format_checker=OAS30Validator.FORMAT_CHECKER)
+        validator = OAS30Validator(
+            self._resolved(schema),
+            registry=self.registry,
+            format_checker=OAS30Validator.FORMAT_CHECKER,
+        )
         for error in sorted(validator.iter_errors(body), key=lambda e: list(e.path))[:5]:
             at = "/".join(str(p) for p in error.absolute_path)
             found.append(f"{where}: body at /{at}: {error.message[:300]}")
@@ -97,6 +102,9 @@ class ContractClient(APIClient):
 
     def request(self, **request):
         response = super().request(**request)
-        self.failures.extend(self.contract.problems(
-            response.request["REQUEST_METHOD"], response.request["PATH_INFO"], response))
+        self.failures.extend(
+            self.contract.problems(
+                response.request["REQUEST_METHOD"], response.request["PATH_INFO"], response
+            )
+        )
         return response

@@ -34,6 +34,7 @@ from tests.whatif.conftest import TD, attach_series, c17_data
 
 pytestmark = pytest.mark.django_db
 
+
 # (method, path template, status) that this run does not produce, and why.
 def _not_produced_here(template: str, status: str, description: str) -> bool:
     """The declared answers this test does not produce for every operation, and why."""
@@ -48,8 +49,13 @@ def _not_produced_here(template: str, status: str, description: str) -> bool:
     return status == "429" and template.startswith("/api/v1/revisions/")
 
 
-UNIQUE = {"code": "east", "name": "Contract copy", "tag": "R-99", "cas_number": "64-17-5",
-          "sequence": 9}
+UNIQUE = {
+    "code": "east",
+    "name": "Contract copy",
+    "tag": "R-99",
+    "cas_number": "64-17-5",
+    "sequence": 9,
+}
 
 
 def _copy_for_create(contract, resource, got: dict) -> dict:
@@ -85,27 +91,35 @@ def as_(contract, failures):
     return client
 
 
-def test_every_operation_answers_as_the_schema_says(contract, failures, as_, admin_user,
-                                                    settings):
+def test_every_operation_answers_as_the_schema_says(contract, failures, as_, admin_user, settings):
     author = make_user("author", perms=AUTHOR_PERMS)
     reviewer, approver, auditor = (make_user(n) for n in ("reviewer", "approver", "auditor"))
     outsider = make_user("outsider")
-    process = assessed_process(author=author, reviewer=reviewer, approver=approver,
-                               auditor=auditor)
+    process = assessed_process(author=author, reviewer=reviewer, approver=approver, auditor=auditor)
     step = process.steps.get()
     run = step.calorimetry_runs.get()
     test = step.decomposition_tests.get()
-    dosed = StepFactory(process=process, sequence=5, operation_mode="semi_batch",
-                        dosing_time_s=TD, vessel=step.vessel, solvent=step.solvent)
+    dosed = StepFactory(
+        process=process,
+        sequence=5,
+        operation_mode="semi_batch",
+        dosing_time_s=TD,
+        vessel=step.vessel,
+        solvent=step.solvent,
+    )
     attach_series(CalorimetryRunFactory(step=dosed, max_accumulation=0.166254), c17_data())
-    DecompositionTestFactory(step=dosed, activation_energy_j_per_mol=100e3,
-                             reference_temperature_k=453.15,
-                             heat_release_rate_at_reference_w_per_kg=50.0)
+    DecompositionTestFactory(
+        step=dosed,
+        activation_energy_j_per_mol=100e3,
+        reference_temperature_k=453.15,
+        heat_release_rate_at_reference_w_per_kg=50.0,
+    )
     admin, anon = as_(admin_user), as_()
 
     # Tokens.
-    tok = anon.post("/api/v1/auth/token/", {"username": "admin", "password": PASSWORD},
-                    format="json")
+    tok = anon.post(
+        "/api/v1/auth/token/", {"username": "admin", "password": PASSWORD}, format="json"
+    )
     assert tok.status_code == 200
     anon.post("/api/v1/auth/token/", {"username": "admin", "password": "wrong"}, format="json")
     anon.post("/api/v1/auth/token/", {"username": "admin"}, format="json")
@@ -114,8 +128,15 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
     by_token.get(f"/api/v1/tokens/{tokens[0]['id']}/")
 
     # Records: list, read, create (with a replay and a reused key), edit, delete.
-    for resource in ("sites", "solvents", "vessels", "processes", "steps", "calorimetry-runs",
-                     "decomposition-tests"):
+    for resource in (
+        "sites",
+        "solvents",
+        "vessels",
+        "processes",
+        "steps",
+        "calorimetry-runs",
+        "decomposition-tests",
+    ):
         listed = admin.get(f"/api/v1/{resource}/", {"limit": 2})
         assert listed.status_code == 200, (resource, listed.content)
         admin.get(f"/api/v1/{resource}/", {"limit": 0})
@@ -124,13 +145,25 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
         admin.get(f"/api/v1/{resource}/no-such-id/")
         body = _copy_for_create(contract, resource, read.json())
         if resource not in ("steps", "calorimetry-runs", "decomposition-tests"):
-            made = admin.post(f"/api/v1/{resource}/", body, format="json",
-                              HTTP_IDEMPOTENCY_KEY=f"contract-{resource}")
+            made = admin.post(
+                f"/api/v1/{resource}/",
+                body,
+                format="json",
+                HTTP_IDEMPOTENCY_KEY=f"contract-{resource}",
+            )
             assert made.status_code == 201, (resource, made.content)
-            admin.post(f"/api/v1/{resource}/", body, format="json",
-                       HTTP_IDEMPOTENCY_KEY=f"contract-{resource}")
-            admin.post(f"/api/v1/{resource}/", {**body, "name": "Else"}, format="json",
-                       HTTP_IDEMPOTENCY_KEY=f"contract-{resource}")
+            admin.post(
+                f"/api/v1/{resource}/",
+                body,
+                format="json",
+                HTTP_IDEMPOTENCY_KEY=f"contract-{resource}",
+            )
+            admin.post(
+                f"/api/v1/{resource}/",
+                {**body, "name": "Else"},
+                format="json",
+                HTTP_IDEMPOTENCY_KEY=f"contract-{resource}",
+            )
             admin.post(f"/api/v1/{resource}/", {}, format="json")
             url, etag = f"/api/v1/{resource}/{made.json()['id']}/", made["ETag"]
             name = {"name": made.json()["name"] + " 2"}
@@ -160,25 +193,51 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
     # A second step, run and test, created by the author and edited.
     author_c = as_(author)
     new_step = author_c.post(
-        "/api/v1/steps/", _copy_for_create(contract, "steps", author_c.get(
-            f"/api/v1/steps/{step.pk}/").json()),
-        format="json", HTTP_IDEMPOTENCY_KEY="contract-step")
+        "/api/v1/steps/",
+        _copy_for_create(contract, "steps", author_c.get(f"/api/v1/steps/{step.pk}/").json()),
+        format="json",
+        HTTP_IDEMPOTENCY_KEY="contract-step",
+    )
     assert new_step.status_code == 201, new_step.content
     sid = new_step.json()["id"]
     author_c.get(f"/api/v1/steps/{sid}/")
-    new_run = author_c.post("/api/v1/calorimetry-runs/", {**_copy_for_create(
-        contract, "calorimetry-runs", author_c.get(f"/api/v1/calorimetry-runs/{run.pk}/").json()),
-        "step": sid}, format="json")
-    new_test = author_c.post("/api/v1/decomposition-tests/", {**_copy_for_create(
-        contract, "decomposition-tests",
-        author_c.get(f"/api/v1/decomposition-tests/{test.pk}/").json()), "step": sid},
-        format="json")
-    for made, res in ((new_run, "calorimetry-runs"), (new_test, "decomposition-tests"),
-                      (new_step, "steps")):
+    new_run = author_c.post(
+        "/api/v1/calorimetry-runs/",
+        {
+            **_copy_for_create(
+                contract,
+                "calorimetry-runs",
+                author_c.get(f"/api/v1/calorimetry-runs/{run.pk}/").json(),
+            ),
+            "step": sid,
+        },
+        format="json",
+    )
+    new_test = author_c.post(
+        "/api/v1/decomposition-tests/",
+        {
+            **_copy_for_create(
+                contract,
+                "decomposition-tests",
+                author_c.get(f"/api/v1/decomposition-tests/{test.pk}/").json(),
+            ),
+            "step": sid,
+        },
+        format="json",
+    )
+    for made, res in (
+        (new_run, "calorimetry-runs"),
+        (new_test, "decomposition-tests"),
+        (new_step, "steps"),
+    ):
         assert made.status_code == 201, made.content
         url = f"/api/v1/{res}/{made.json()['id']}/"
-        patched = author_c.patch(url, {"notes": "checked"} if res != "steps" else
-                                 {"name": "Quench"}, format="json", HTTP_IF_MATCH=made["ETag"])
+        patched = author_c.patch(
+            url,
+            {"notes": "checked"} if res != "steps" else {"name": "Quench"},
+            format="json",
+            HTTP_IF_MATCH=made["ETag"],
+        )
         assert patched.status_code == 200, patched.content
         whole = _copy_for_create(contract, res, patched.json())
         put = author_c.put(url, whole, format="json", HTTP_IF_MATCH=patched["ETag"])
@@ -197,23 +256,40 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
     # Calorimeter series.
     series = f"/api/v1/calorimetry-runs/{run.pk}/series/"
     admin.get(series)
-    admin.post(series, {"initial_mass": "400 g", "feed_mass": "100 g",
-                        "file": SimpleUploadedFile("r.csv", b"nonsense\n1,2\n")},
-               format="multipart")
-    up = admin.post(series, {"initial_mass": "400 g", "feed_mass": "100 g",
-                             "file": SimpleUploadedFile("r.csv", GOOD)}, format="multipart",
-                    HTTP_IDEMPOTENCY_KEY="contract-series")
+    admin.post(
+        series,
+        {
+            "initial_mass": "400 g",
+            "feed_mass": "100 g",
+            "file": SimpleUploadedFile("r.csv", b"nonsense\n1,2\n"),
+        },
+        format="multipart",
+    )
+    up = admin.post(
+        series,
+        {"initial_mass": "400 g", "feed_mass": "100 g", "file": SimpleUploadedFile("r.csv", GOOD)},
+        format="multipart",
+        HTTP_IDEMPOTENCY_KEY="contract-series",
+    )
     assert up.status_code == 201, up.content
     admin.get(series)
-    admin.post(series, {"initial_mass": "400 g", "feed_mass": "100 g",
-                        "file": SimpleUploadedFile("r.csv", GOOD)}, format="multipart",
-               HTTP_IF_MATCH='"calorimetryrun-0-v0"')
-    admin.post(series, {"initial_mass": "400 g", "feed_mass": "100 g",
-                        "file": SimpleUploadedFile("r.csv", GOOD)}, format="multipart",
-               HTTP_IDEMPOTENCY_KEY="contract-sites")  # a key used elsewhere: 422
-    admin.post("/api/v1/calorimetry-runs/999999/series/", {
-        "initial_mass": "400 g", "feed_mass": "100 g",
-        "file": SimpleUploadedFile("r.csv", GOOD)}, format="multipart")
+    admin.post(
+        series,
+        {"initial_mass": "400 g", "feed_mass": "100 g", "file": SimpleUploadedFile("r.csv", GOOD)},
+        format="multipart",
+        HTTP_IF_MATCH='"calorimetryrun-0-v0"',
+    )
+    admin.post(
+        series,
+        {"initial_mass": "400 g", "feed_mass": "100 g", "file": SimpleUploadedFile("r.csv", GOOD)},
+        format="multipart",
+        HTTP_IDEMPOTENCY_KEY="contract-sites",
+    )  # a key used elsewhere: 422
+    admin.post(
+        "/api/v1/calorimetry-runs/999999/series/",
+        {"initial_mass": "400 g", "feed_mass": "100 g", "file": SimpleUploadedFile("r.csv", GOOD)},
+        format="multipart",
+    )
 
     # Exchange.
     doc = admin.get(f"/api/v1/processes/{process.pk}/export/")
@@ -227,8 +303,9 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
     # Review: a revision opened, signed three times, compared, sent back.
     rev_list = author_c.get("/api/v1/revisions/", {"process": process.pk})
     assert rev_list.status_code == 200
-    opened = author_c.post("/api/v1/revisions/", {"process": process.pk, "reason": "first"},
-                           format="json")
+    opened = author_c.post(
+        "/api/v1/revisions/", {"process": process.pk, "reason": "first"}, format="json"
+    )
     assert opened.status_code == 201, opened.content
     rid = opened.json()["id"]
     author_c.post("/api/v1/revisions/", {"process": process.pk}, format="json")
@@ -236,40 +313,77 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
     as_(outsider).post("/api/v1/revisions/", {"process": process.pk}, format="json")
     author_c.get(f"/api/v1/revisions/{rid}/")
     author_c.get(f"/api/v1/revisions/{rid}/history/")
-    as_(reviewer).post(f"/api/v1/revisions/{rid}/review/", {"password": PASSWORD},
-                       format="json")  # not lodged yet: 409
+    as_(reviewer).post(
+        f"/api/v1/revisions/{rid}/review/", {"password": PASSWORD}, format="json"
+    )  # not lodged yet: 409
     by_token.post(f"/api/v1/revisions/{rid}/submit/", {"password": PASSWORD}, format="json")
     author_c.post(f"/api/v1/revisions/{rid}/submit/", {"password": "wrong"}, format="json")
-    assert author_c.post(f"/api/v1/revisions/{rid}/submit/", {"password": PASSWORD},
-                         format="json").status_code == 201
-    assert as_(reviewer).post(f"/api/v1/revisions/{rid}/review/", {"password": PASSWORD},
-                              format="json").status_code == 201
-    assert as_(approver).post(f"/api/v1/revisions/{rid}/approve/", {"password": PASSWORD},
-                              format="json").status_code == 201
-    as_(approver).post(f"/api/v1/revisions/{rid}/approve/", {"password": PASSWORD},
-                       format="json")
-    as_(approver).post(f"/api/v1/revisions/{rid}/sign/", {"password": PASSWORD,
-                                                          "meaning": "approved"}, format="json")
+    assert (
+        author_c.post(
+            f"/api/v1/revisions/{rid}/submit/", {"password": PASSWORD}, format="json"
+        ).status_code
+        == 201
+    )
+    assert (
+        as_(reviewer)
+        .post(f"/api/v1/revisions/{rid}/review/", {"password": PASSWORD}, format="json")
+        .status_code
+        == 201
+    )
+    assert (
+        as_(approver)
+        .post(f"/api/v1/revisions/{rid}/approve/", {"password": PASSWORD}, format="json")
+        .status_code
+        == 201
+    )
+    as_(approver).post(f"/api/v1/revisions/{rid}/approve/", {"password": PASSWORD}, format="json")
+    as_(approver).post(
+        f"/api/v1/revisions/{rid}/sign/",
+        {"password": PASSWORD, "meaning": "approved"},
+        format="json",
+    )
     author_c.post(f"/api/v1/revisions/{rid}/send-back/", {}, format="json")
     author_c.post(f"/api/v1/revisions/{rid}/send-back/", {"reason": "no"}, format="json")
-    author_c.post(f"/api/v1/revisions/{rid}/submit/", {"password": PASSWORD},
-                  format="json")  # endorsed: 409
+    author_c.post(
+        f"/api/v1/revisions/{rid}/submit/", {"password": PASSWORD}, format="json"
+    )  # endorsed: 409
     as_(reviewer).post("/api/v1/revisions/999999/send-back/", {"reason": "x"}, format="json")
-    author_c.post("/api/v1/revisions/999999/sign/", {"password": PASSWORD,
-                                                     "meaning": "authored"}, format="json")
+    author_c.post(
+        "/api/v1/revisions/999999/sign/",
+        {"password": PASSWORD, "meaning": "authored"},
+        format="json",
+    )
     # A change to the approved step opens a change record; a second revision goes round.
     got = admin.get(f"/api/v1/steps/{step.pk}/")
-    assert admin.patch(f"/api/v1/steps/{step.pk}/", {"reaction_mass": "4000 kg", "reason": "pilot"},
-                       format="json", HTTP_IF_MATCH=got["ETag"]).status_code == 200
+    assert (
+        admin.patch(
+            f"/api/v1/steps/{step.pk}/",
+            {"reaction_mass": "4000 kg", "reason": "pilot"},
+            format="json",
+            HTTP_IF_MATCH=got["ETag"],
+        ).status_code
+        == 200
+    )
     second = author_c.post("/api/v1/revisions/", {"process": process.pk}, format="json")
     assert second.status_code == 201, second.content
     rid2 = second.json()["id"]
-    assert author_c.post(f"/api/v1/revisions/{rid2}/sign/", {
-        "password": PASSWORD, "meaning": "authored"}, format="json").status_code == 201
-    assert as_(reviewer).post(f"/api/v1/revisions/{rid2}/send-back/", {"reason": "again"},
-                              format="json").status_code == 200
-    as_(reviewer).post(f"/api/v1/revisions/{rid2}/send-back/", {"reason": "again"},
-                       format="json")  # sent back already: 409
+    assert (
+        author_c.post(
+            f"/api/v1/revisions/{rid2}/sign/",
+            {"password": PASSWORD, "meaning": "authored"},
+            format="json",
+        ).status_code
+        == 201
+    )
+    assert (
+        as_(reviewer)
+        .post(f"/api/v1/revisions/{rid2}/send-back/", {"reason": "again"}, format="json")
+        .status_code
+        == 200
+    )
+    as_(reviewer).post(
+        f"/api/v1/revisions/{rid2}/send-back/", {"reason": "again"}, format="json"
+    )  # sent back already: 409
     author_c.get(f"/api/v1/revisions/{rid}/diff/", {"against": rid})
     author_c.get(f"/api/v1/revisions/{rid}/diff/", {"against": 999999})
     author_c.get(f"/api/v1/revisions/{rid}/diff/")
@@ -282,35 +396,56 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
     sigs = author_c.get("/api/v1/signatures/").json()["results"]
     author_c.get(f"/api/v1/signatures/{sigs[0]['id']}/")
     # Findings and roles.
-    finding = as_(reviewer).post("/api/v1/findings/", {
-        "process": process.pk, "title": "Check the coolant", "kind": "advisory",
-        "owner": "author", "due_date": "2027-01-31"}, format="json")
+    finding = as_(reviewer).post(
+        "/api/v1/findings/",
+        {
+            "process": process.pk,
+            "title": "Check the coolant",
+            "kind": "advisory",
+            "owner": "author",
+            "due_date": "2027-01-31",
+        },
+        format="json",
+    )
     assert finding.status_code == 201, finding.content
     furl = f"/api/v1/findings/{finding.json()['id']}/"
     as_(reviewer).get("/api/v1/findings/")
     fread = as_(reviewer).get(furl)
-    whole = {"title": "Coolant", "kind": "advisory", "owner": "author",
-             "due_date": "2027-02-28", "status": "open", "reason": "again", "description": ""}
+    whole = {
+        "title": "Coolant",
+        "kind": "advisory",
+        "owner": "author",
+        "due_date": "2027-02-28",
+        "status": "open",
+        "reason": "again",
+        "description": "",
+    }
     as_(reviewer).put(furl, whole, format="json")  # no If-Match: 428
     put = as_(reviewer).put(furl, whole, format="json", HTTP_IF_MATCH=fread["ETag"])
     assert put.status_code == 200, put.content
     as_(reviewer).put(furl, whole, format="json", HTTP_IF_MATCH=fread["ETag"])  # stale: 412
-    as_(reviewer).patch(furl, {"status": "resolved"}, format="json",
-                        HTTP_IF_MATCH=put["ETag"])  # no reason: 400
-    done = as_(reviewer).patch(furl, {"status": "resolved", "reason": "done"}, format="json",
-                               HTTP_IF_MATCH=put["ETag"])
+    as_(reviewer).patch(
+        furl, {"status": "resolved"}, format="json", HTTP_IF_MATCH=put["ETag"]
+    )  # no reason: 400
+    done = as_(reviewer).patch(
+        furl, {"status": "resolved", "reason": "done"}, format="json", HTTP_IF_MATCH=put["ETag"]
+    )
     assert done.status_code == 200, done.content
-    as_(reviewer).patch(furl, {"status": "withdrawn", "reason": "x"}, format="json",
-                        HTTP_IF_MATCH=done["ETag"])  # closed: 409
+    as_(reviewer).patch(
+        furl, {"status": "withdrawn", "reason": "x"}, format="json", HTTP_IF_MATCH=done["ETag"]
+    )  # closed: 409
     as_(reviewer).patch(furl, {"status": "withdrawn", "reason": "x"}, format="json")
     as_(reviewer).put(furl, whole, format="json", HTTP_IF_MATCH=done["ETag"])  # closed: 409
     as_(reviewer).put(furl, {}, format="json", HTTP_IF_MATCH=done["ETag"])  # 400
-    as_(reviewer).patch(furl, {"status": "withdrawn", "reason": "x"}, format="json",
-                        HTTP_IF_MATCH=put["ETag"])
+    as_(reviewer).patch(
+        furl, {"status": "withdrawn", "reason": "x"}, format="json", HTTP_IF_MATCH=put["ETag"]
+    )
     as_(reviewer).post("/api/v1/findings/", {}, format="json")
-    role = admin.post("/api/v1/process-roles/", {"process": process.pk, "user": "outsider",
-                                                  "role": "auditor", "reason": "audit"},
-                      format="json")
+    role = admin.post(
+        "/api/v1/process-roles/",
+        {"process": process.pk, "user": "outsider", "role": "auditor", "reason": "audit"},
+        format="json",
+    )
     assert role.status_code == 201, role.content
     admin.get("/api/v1/process-roles/")
     rurl = f"/api/v1/process-roles/{role.json()['id']}/"
@@ -318,11 +453,15 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
     admin.delete(rurl)  # 428
     admin.delete(rurl, HTTP_X_CHANGE_REASON="done", HTTP_IF_MATCH='"processrole-0-x"')  # 412
     admin.delete(rurl, HTTP_IF_MATCH=rread["ETag"])  # no reason: 400
-    assert admin.delete(rurl, HTTP_X_CHANGE_REASON="done",
-                        HTTP_IF_MATCH=rread["ETag"]).status_code == 204
-    as_(author).post("/api/v1/process-roles/", {"process": process.pk, "user": "outsider",
-                                                "role": "auditor", "reason": "x"},
-                     format="json")
+    assert (
+        admin.delete(rurl, HTTP_X_CHANGE_REASON="done", HTTP_IF_MATCH=rread["ETag"]).status_code
+        == 204
+    )
+    as_(author).post(
+        "/api/v1/process-roles/",
+        {"process": process.pk, "user": "outsider", "role": "auditor", "reason": "x"},
+        format="json",
+    )
 
     # Dossiers.
     dossiers = f"/api/v1/processes/{process.pk}/dossiers/"
@@ -341,8 +480,11 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
         assert admin.post(f"/api/v1/dossiers/{did}/retry/").status_code == 202
         Dossier.objects.filter(pk=did).update(status="done", pdf=b"%PDF-1.7 test", sha256="0")
         assert admin.get(f"/api/v1/dossiers/{did}/pdf/").status_code == 200
-    admin.post("/api/v1/dossiers/verify/", {"file": SimpleUploadedFile("x.pdf", b"%PDF-1.7")},
-               format="multipart")
+    admin.post(
+        "/api/v1/dossiers/verify/",
+        {"file": SimpleUploadedFile("x.pdf", b"%PDF-1.7")},
+        format="multipart",
+    )
     admin.post("/api/v1/dossiers/verify/", {}, format="multipart")
 
     # Oversight.
@@ -353,19 +495,32 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
     admin.get(f"/api/v1/changes/{changes[0]['id']}/")
     prefs = author_c.get("/api/v1/notification-preferences/")
     row = {"kind": Kind.values[0], "email": False, "inbox": True}
-    author_c.put("/api/v1/notification-preferences/", [row], format="json",
-                 HTTP_IF_MATCH=prefs.get("ETag", ""))
-    author_c.patch("/api/v1/notification-preferences/", [row], format="json",
-                   HTTP_IF_MATCH=author_c.get("/api/v1/notification-preferences/")
-                   .get("ETag", ""))
+    author_c.put(
+        "/api/v1/notification-preferences/",
+        [row],
+        format="json",
+        HTTP_IF_MATCH=prefs.get("ETag", ""),
+    )
+    author_c.patch(
+        "/api/v1/notification-preferences/",
+        [row],
+        format="json",
+        HTTP_IF_MATCH=author_c.get("/api/v1/notification-preferences/").get("ETag", ""),
+    )
     author_c.put("/api/v1/notification-preferences/", [{"kind": "nonsense"}], format="json")
     for method in ("put", "patch"):
         getattr(author_c, method)("/api/v1/notification-preferences/", [row], format="json")
-        getattr(author_c, method)("/api/v1/notification-preferences/", [row], format="json",
-                                  HTTP_IF_MATCH=prefs["ETag"])  # changed since: 412
-    Notification.objects.create(recipient=reviewer, kind=Kind.values[0], subject="Due",
-                                object_key=f"hazards.process:{process.pk}",
-                                body="A revalidation is due.", process=process)
+        getattr(author_c, method)(
+            "/api/v1/notification-preferences/", [row], format="json", HTTP_IF_MATCH=prefs["ETag"]
+        )  # changed since: 412
+    Notification.objects.create(
+        recipient=reviewer,
+        kind=Kind.values[0],
+        subject="Due",
+        object_key=f"hazards.process:{process.pk}",
+        body="A revalidation is due.",
+        process=process,
+    )
     nid = as_(reviewer).get("/api/v1/notifications/").json()["results"][0]["id"]
     as_(reviewer).get(f"/api/v1/notifications/{nid}/")
     as_(reviewer).post(f"/api/v1/notifications/{nid}/read/")
@@ -373,52 +528,91 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
     anon.get("/api/v1/problems/")
 
     # Generic errors of every operation, on real ids.
-    ids = {"sites": process.site_id, "processes": process.pk, "steps": step.pk,
-           "calorimetry-runs": run.pk, "decomposition-tests": test.pk, "vessels": step.vessel_id,
-           "solvents": step.solvent_id, "revisions": rid, "findings": finding.json()["id"],
-           "signatures": sigs[0]["id"], "tokens": tokens[0]["id"],
-           "process-roles": process.roles.first().pk, "changes": changes[0]["id"],
-           "notifications": nid, "dossiers": did}
+    ids = {
+        "sites": process.site_id,
+        "processes": process.pk,
+        "steps": step.pk,
+        "calorimetry-runs": run.pk,
+        "decomposition-tests": test.pk,
+        "vessels": step.vessel_id,
+        "solvents": step.solvent_id,
+        "revisions": rid,
+        "findings": finding.json()["id"],
+        "signatures": sigs[0]["id"],
+        "tokens": tokens[0]["id"],
+        "process-roles": process.roles.first().pk,
+        "changes": changes[0]["id"],
+        "notifications": nid,
+        "dossiers": did,
+    }
     csrf = ContractClient(contract, failures, enforce_csrf_checks=True)
     csrf.force_login(admin_user)
     lone = as_(outsider)
     for method, template, _op in contract.operations():
         path = template.replace("{id}", "999999").replace("{label}", "hazards.process")
         real = template.replace("{label}", "hazards.process").replace(
-            "{id}", str(ids.get(template.split("/")[3], process.pk)))
+            "{id}", str(ids.get(template.split("/")[3], process.pk))
+        )
         anon.generic(method.upper(), path)
         lone.generic(method.upper(), real, "{}", content_type="application/json")
-        admin.generic(method.upper(), real + "?limit=0&offset=-1&against=x&from=x&within_days=x"
-                      "&dosing_time_steps=0&process=x&revision=x&kind=nonsense&x=1&x=2", "{}",
-                      content_type="application/json")
+        admin.generic(
+            method.upper(),
+            real + "?limit=0&offset=-1&against=x&from=x&within_days=x"
+            "&dosing_time_steps=0&process=x&revision=x&kind=nonsense&x=1&x=2",
+            "{}",
+            content_type="application/json",
+        )
         if "{" in template:
             admin.generic(method.upper(), path, "{}", content_type="application/json")
         if method != "get":
             csrf.generic(method.upper(), real, "{}", content_type="application/json")
         if method in ("put", "patch", "delete"):
             admin.generic(method.upper(), real, "{}", content_type="application/json")
-            admin.generic(method.upper(), real, "{}", content_type="application/json",
-                          HTTP_IF_MATCH='"stale-0-v0"')
+            admin.generic(
+                method.upper(),
+                real,
+                "{}",
+                content_type="application/json",
+                HTTP_IF_MATCH='"stale-0-v0"',
+            )
         if method in ("post", "put", "patch"):
             tag = admin.get(real)["ETag"] if method != "post" else ""
-            admin.generic(method.upper(), real, "{not json", content_type="application/json",
-                          HTTP_IF_MATCH=tag)
-            admin.generic(method.upper(), real, "x", content_type="text/plain",
-                          HTTP_IF_MATCH=tag)
-            admin.generic(method.upper(), real, "{}", content_type="application/json",
-                          HTTP_IDEMPOTENCY_KEY="contract-sites")  # the key of another call
+            admin.generic(
+                method.upper(),
+                real,
+                "{not json",
+                content_type="application/json",
+                HTTP_IF_MATCH=tag,
+            )
+            admin.generic(method.upper(), real, "x", content_type="text/plain", HTTP_IF_MATCH=tag)
+            admin.generic(
+                method.upper(),
+                real,
+                "{}",
+                content_type="application/json",
+                HTTP_IDEMPOTENCY_KEY="contract-sites",
+            )  # the key of another call
     settings.DATA_UPLOAD_MAX_MEMORY_SIZE = 4096
     for method, template, _op in contract.operations():
         if method in ("post", "put", "patch"):
             real = template.replace("{id}", str(ids.get(template.split("/")[3], process.pk)))
             big = json.dumps({"name": "x" * 5000})
             tag = admin.get(real)["ETag"] if method != "post" else ""
-            admin.generic(method.upper(), real, big, content_type="application/json",
-                          HTTP_IDEMPOTENCY_KEY="big", HTTP_IF_MATCH=tag)
+            admin.generic(
+                method.upper(),
+                real,
+                big,
+                content_type="application/json",
+                HTTP_IDEMPOTENCY_KEY="big",
+                HTTP_IF_MATCH=tag,
+            )
             if method == "post":
                 with mock.patch("hazards.services.series.MAX_BYTES", 4096):
-                    admin.post(real, {"file": SimpleUploadedFile("b.csv", b"1" * 5000),
-                                      "initial_mass": "1 kg"}, format="multipart")
+                    admin.post(
+                        real,
+                        {"file": SimpleUploadedFile("b.csv", b"1" * 5000), "initial_mass": "1 kg"},
+                        format="multipart",
+                    )
 
     # A database outage, simulated once (the real one: tests/hardening/test_faults.py).
     with mock.patch("hazards.api.views.SiteViewSet.list", side_effect=OperationalError("down")):
@@ -426,11 +620,18 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
     assert outage.status_code == 503 and outage["Retry-After"]
 
     assert not failures, "\n".join(failures)
-    missing = [f"{m.upper()} {t}" for m, t, _ in contract.operations()
-               if not any(200 <= s < 300 for s in contract.seen.get((m, t), ()))]
+    missing = [
+        f"{m.upper()} {t}"
+        for m, t, _ in contract.operations()
+        if not any(200 <= s < 300 for s in contract.seen.get((m, t), ()))
+    ]
     assert not missing, "operations never answered with success:\n" + "\n".join(missing)
-    unseen = [f"{m.upper()} {t} {s}: {op['responses'][s]['description']}"
-              for m, t, op in contract.operations() for s in op["responses"]
-              if s.isdigit() and int(s) not in contract.seen.get((m, t), ())
-              and not _not_produced_here(t, s, op["responses"][s]["description"])]
+    unseen = [
+        f"{m.upper()} {t} {s}: {op['responses'][s]['description']}"
+        for m, t, op in contract.operations()
+        for s in op["responses"]
+        if s.isdigit()
+        and int(s) not in contract.seen.get((m, t), ())
+        and not _not_produced_here(t, s, op["responses"][s]["description"])
+    ]
     assert not unseen, "declared but never produced:\n" + "\n".join(unseen)
