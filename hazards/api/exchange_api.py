@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from django.db import models
-from drf_spectacular.utils import extend_schema_field
+from drf_spectacular.extensions import OpenApiSerializerFieldExtension
 from rest_framework import permissions, serializers, status
 from rest_framework.response import Response
 
@@ -45,11 +45,25 @@ class ExchangeQuantity(serializers.Field):
         super().__init__(**kwargs)
 
 
-def _quantity_schema(kind: str) -> dict:
+def exchange_quantity_schema(kind: str, direction: str) -> dict:
+    """A quantity of the exchange document, stated as the records' quantities are (`unit`
+    named, `x-canonical-unit`), in the SI unit of its kind (so a round trip is exact)."""
+    si = SPECS[kind].si_unit
+    unit = ({"type": "string", "enum": [si]} if direction == "response" else
+            {"type": "string", "description": f"Any unit compatible with {si}."})
     return {"type": "object", "nullable": True, "additionalProperties": False,
-            "properties": {"value": {"type": "number"},
-                           "unit": {"type": "string", "example": SPECS[kind].si_unit}},
-            "required": ["value", "unit"], "x-si-unit": SPECS[kind].si_unit}
+            "properties": {"value": {"type": "number"}, "unit": unit},
+            "required": ["value", "unit"], "x-canonical-unit": si,
+            "description": f"In the SI unit `{si}` (the records' own fields use display "
+                           "units); on import any compatible unit."}
+
+
+class ExchangeQuantityExtension(OpenApiSerializerFieldExtension):
+    target_class = "hazards.api.exchange_api.ExchangeQuantity"
+    match_subclasses = True
+
+    def map_serializer_field(self, auto_schema, direction):
+        return exchange_quantity_schema(self.target.kind, direction)
 
 
 def _doc_serializer(model, name: str, extra: dict | None = None, required=()):
@@ -58,7 +72,10 @@ def _doc_serializer(model, name: str, extra: dict | None = None, required=()):
     for field_name in plain:
         field = model._meta.get_field(field_name)
         kw = {"required": field_name in required, "allow_null": field.null}
-        if isinstance(field, models.BooleanField):
+        if field.choices:  # closed sets (operation mode, system, method...) as enums
+            attrs[field_name] = serializers.ChoiceField(choices=field.choices,
+                                                        allow_blank=field.blank, **kw)
+        elif isinstance(field, models.BooleanField):
             attrs[field_name] = serializers.BooleanField(**kw)
         elif isinstance(field, models.IntegerField):
             attrs[field_name] = serializers.IntegerField(min_value=0, **kw)
@@ -70,9 +87,7 @@ def _doc_serializer(model, name: str, extra: dict | None = None, required=()):
             attrs[field_name] = serializers.CharField(allow_blank=True, **kw)
     for field_name, kind in kinds.items():
         api = exchange._api_name(field_name)
-        field_cls = extend_schema_field(_quantity_schema(kind))(
-            type(f"{name}{api.title().replace('_', '')}Quantity", (ExchangeQuantity,), {}))
-        attrs[api] = field_cls(kind, required=api in required, allow_null=True)
+        attrs[api] = ExchangeQuantity(kind, required=api in required, allow_null=True)
     attrs.update(extra or {})
     return type(name, (serializers.Serializer,), attrs)
 

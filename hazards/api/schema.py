@@ -236,6 +236,8 @@ class ExoledgerAutoSchema(AutoSchema):
                                                                  ())
 
     def get_auth(self):
+        if not getattr(self.view, "authentication_classes", None):
+            return [{}]  # open to anyone, e.g. the token exchange itself
         auth = super().get_auth()
         if self._session_only():  # signing: a person signed in, never a token
             auth = [a for a in auth if "tokenAuth" not in a]

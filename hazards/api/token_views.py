@@ -59,7 +59,6 @@ class ObtainTokenView(APIView):
         request=CredentialsSerializer,
         responses={200: inline_serializer("TokenResponse", {"token": serializers.CharField(),
                                                             "expires_at": serializers.DateTimeField()})},
-        auth=[],
     )
     def post(self, request):
         credentials = CredentialsSerializer(data=request.data)

@@ -220,7 +220,7 @@ class ProblemTypesView(APIView):
     permission_classes = [AllowAny]
     authentication_classes: list = []
 
-    @extend_schema(responses={200: s.ProblemTypeSerializer(many=True)}, auth=[])
+    @extend_schema(responses={200: s.ProblemTypeSerializer(many=True)})
     def get(self, request):
         return Response([
             {"code": code, "status": status, "title": title, "description": description}
