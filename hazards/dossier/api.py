@@ -17,8 +17,8 @@ from rest_framework.views import APIView
 from hazards.access import visible
 from hazards.api.errors import ProblemError
 from hazards.api.idempotency import IdempotentPostMixin
-from hazards.api.parsers import LimitedFormParser, LimitedMultiPartParser
 from hazards.api.pagination import StrictLimitOffsetPagination
+from hazards.api.parsers import LimitedFormParser, LimitedMultiPartParser
 from hazards.dossier.models import Dossier, DossierStatus
 from hazards.dossier.seal import verify_pdf
 from hazards.dossier.services import (

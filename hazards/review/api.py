@@ -11,14 +11,13 @@ from drf_spectacular.utils import OpenApiParameter, extend_schema
 from rest_framework import mixins, permissions, status, viewsets
 from rest_framework.decorators import action
 from rest_framework.exceptions import APIException, NotFound, ValidationError
-from rest_framework.generics import GenericAPIView
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from hazards.access import PROCESS_PATHS, REFERENCE_MODELS, change_reason, visible
+from hazards.api.concurrency import content_etag, require_if_match
 from hazards.api.idempotency import IdempotentPostMixin, idempotent
 from hazards.api.pagination import KeyedHistoryPagination
-from hazards.api.concurrency import content_etag, require_if_match
 from hazards.models import Process
 from hazards.review import errors as E
 from hazards.review import history, selectors

@@ -326,13 +326,23 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
     )
     assert (
         as_(reviewer)
-        .post(f"/api/v1/revisions/{rid}/review/", {"password": PASSWORD}, format="json")
+        .post(
+            f"/api/v1/revisions/{rid}/review/",
+            {"password": PASSWORD},
+            format="json",
+            HTTP_IDEMPOTENCY_KEY="reviewer-key",
+        )
         .status_code
         == 201
     )
     assert (
         as_(approver)
-        .post(f"/api/v1/revisions/{rid}/approve/", {"password": PASSWORD}, format="json")
+        .post(
+            f"/api/v1/revisions/{rid}/approve/",
+            {"password": PASSWORD},
+            format="json",
+            HTTP_IDEMPOTENCY_KEY="approver-key",
+        )
         .status_code
         == 201
     )
@@ -384,6 +394,18 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
     as_(reviewer).post(
         f"/api/v1/revisions/{rid2}/send-back/", {"reason": "again"}, format="json"
     )  # sent back already: 409
+    for act, who, key in (
+        ("submit", author, "contract-step"),
+        ("sign", author, "contract-step"),
+        ("review", reviewer, "reviewer-key"),
+        ("approve", approver, "approver-key"),
+    ):  # another request's key: 422
+        as_(who).post(
+            f"/api/v1/revisions/{rid2}/{act}/",
+            {"password": PASSWORD, "meaning": "authored"},
+            format="json",
+            HTTP_IDEMPOTENCY_KEY=key,
+        )
     author_c.get(f"/api/v1/revisions/{rid}/diff/", {"against": rid})
     author_c.get(f"/api/v1/revisions/{rid}/diff/", {"against": 999999})
     author_c.get(f"/api/v1/revisions/{rid}/diff/")
@@ -410,6 +432,10 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
     assert finding.status_code == 201, finding.content
     furl = f"/api/v1/findings/{finding.json()['id']}/"
     as_(reviewer).get("/api/v1/findings/")
+    noted = as_(author).post(furl + "notes/", {"text": "Coolant checked."}, format="json")
+    assert noted.status_code == 201, noted.content
+    as_(author).post(furl + "notes/", {}, format="json")  # 400
+    as_(author).post("/api/v1/findings/999999/notes/", {"text": "x"}, format="json")  # 404
     fread = as_(reviewer).get(furl)
     whole = {
         "title": "Coolant",
@@ -437,6 +463,7 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
     as_(reviewer).patch(furl, {"status": "withdrawn", "reason": "x"}, format="json")
     as_(reviewer).put(furl, whole, format="json", HTTP_IF_MATCH=done["ETag"])  # closed: 409
     as_(reviewer).put(furl, {}, format="json", HTTP_IF_MATCH=done["ETag"])  # 400
+    as_(author).post(furl + "notes/", {"text": "Late."}, format="json")  # closed: 409
     as_(reviewer).patch(
         furl, {"status": "withdrawn", "reason": "x"}, format="json", HTTP_IF_MATCH=put["ETag"]
     )
@@ -486,6 +513,14 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
         format="multipart",
     )
     admin.post("/api/v1/dossiers/verify/", {}, format="multipart")
+    admin.post(
+        "/api/v1/dossiers/verify/",
+        {"file": SimpleUploadedFile("x.pdf", b"%PDF-1.7")},
+        format="multipart",
+        HTTP_IDEMPOTENCY_KEY="contract-sites",
+    )  # 422
+    settings.DOSSIER_REISSUES_PER_DAY = 1
+    admin.post(dossiers, {"reissue": True, "reason": "again"}, format="json")  # 429
 
     # Oversight.
     admin.get("/api/v1/revalidation/")
