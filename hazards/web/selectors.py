@@ -77,8 +77,13 @@ def waiting_for(user) -> dict:
     findings = (Finding.objects.filter(owner=user, status=FindingStatus.OPEN)
                 .filter(process__in=processes_of(user))
                 .select_related("process", "raised_by").order_by("due_date", "id"))
+    # Reported done by their owners: the person who raised them checks and settles them.
+    to_check = (Finding.objects.filter(raised_by=user, status=FindingStatus.READY_FOR_CHECK)
+                .filter(process__in=processes_of(user))
+                .select_related("process", "owner").order_by("due_date", "id"))
     return {"to_review": list(to_review), "to_approve": list(to_approve),
-            "drafts": list(drafts), "findings": list(findings), "today": dt.date.today()}
+            "drafts": list(drafts), "findings": list(findings), "to_check": list(to_check),
+            "today": dt.date.today()}
 
 
 def class_counts(user) -> list[dict]:

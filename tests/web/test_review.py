@@ -86,7 +86,9 @@ def test_a_finding_is_raised_and_waits_on_its_owners_start_page(people, process,
     assert finding.status == "ready_for_check"
     assert [n.text for n in finding.notes.order_by("id")] == [
         "Interlock test booked for Tuesday.", "interlock test record attached"]
-    # The reviewer who raised it checks and resolves it.
+    # The reviewer who raised it finds it on the start page, checks and resolves it.
+    start = client_as(people["reviewer"]).get("/").content.decode()
+    assert "Findings ready for your check" in start and "Check the dosing interlock" in start
     page = client_as(people["reviewer"]).get(f"/findings/{finding.pk}/").content.decode()
     assert "Interlock test booked for Tuesday." in page and 'value="resolved"' in page
     checked = client_as(people["reviewer"]).post(f"/findings/{finding.pk}/", {
