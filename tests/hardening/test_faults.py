@@ -151,7 +151,11 @@ def test_a_worker_killed_while_a_finding_post_waits_keeps_no_finding_and_the_key
     blocker.close()
     wait_for(lambda: waiting_backend() is None, what="the dead request's backend to go")
     monitor.close()
-    assert not Finding.objects.exists()
+    # The foreign key is checked at COMMIT (Django's constraints are deferred), and a COMMIT
+    # the server already received completes even when its client is gone. Either outcome
+    # keeps the record whole: nothing at all, or the finding with its key, which the retry
+    # then replays. Never a finding without its key, never two.
+    assert Finding.objects.count() <= 1
     wait_for(lambda: server.worker_pids() and server.worker_pids() != [worker],
              what="a new gunicorn worker")
     first, again = post(), post()
