@@ -91,10 +91,11 @@ def test_every_generated_module_imports(generated):
         for line in path.read_text().splitlines():
             if line.strip().startswith('headers["Content-Type"]'):
                 sends.setdefault(line.split('"')[3].split(";")[0], set()).add(path.stem)
-    # JSON everywhere; multipart only for the two file uploads.
+    # JSON everywhere; multipart only for the three file uploads.
     assert set(sends) == {"application/json", "multipart/form-data"}, sends
     assert sends["multipart/form-data"] == {
         "calorimetry_runs_series_create",
+        "decomposition_tests_curves_create",
         "dossiers_verify_create",
     }
     assert len(sends["application/json"]) > 30
