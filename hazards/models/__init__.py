@@ -8,6 +8,13 @@ from hazards.models.measurements import (
     DecompositionPeak,
     DecompositionTest,
 )
+from hazards.models.measures import (
+    Measure,
+    MeasureKind,
+    MeasurePolicy,
+    MeasureStatus,
+    ReliefSystem,
+)
 from hazards.models.process import Process, ReactionStep, Site
 from hazards.models.reference import Solvent, Vessel
 from hazards.models.tokens import ApiToken, ServiceAccount
@@ -21,9 +28,14 @@ __all__ = [
     "DecompositionPeak",
     "DecompositionTest",
     "IndicatorSnapshot",
+    "Measure",
+    "MeasureKind",
+    "MeasurePolicy",
+    "MeasureStatus",
     "PendingRecompute",
     "Process",
     "ReactionStep",
+    "ReliefSystem",
     "Site",
     "Solvent",
     "ServiceAccount",

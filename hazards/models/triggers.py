@@ -17,6 +17,7 @@ from hazards.models.measurements import (
     DecompositionPeak,
     DecompositionTest,
 )
+from hazards.models.measures import Measure
 from hazards.models.process import ReactionStep
 from hazards.models.reference import Solvent, Vessel
 
@@ -74,7 +75,8 @@ _register(
     ),
 )
 for _model, _name in ((CalorimetryRun, "queue_calorimetry_recompute"),
-                      (DecompositionTest, "queue_decomposition_recompute")):
+                      (DecompositionTest, "queue_decomposition_recompute"),
+                      (Measure, "queue_measure_recompute")):
     _register(
         _model,
         _name,

@@ -11,6 +11,7 @@ from __future__ import annotations
 import pgtrigger
 from django.conf import settings
 from django.db import models
+from django.db.models import Q
 from django.db.models.functions import Now
 
 from hazards.models.base import tracked
@@ -330,6 +331,46 @@ class Finding(models.Model):
 
     def __str__(self) -> str:
         return f"{self.kind} finding: {self.title}"
+
+
+@tracked()
+class RiskAcceptance(models.Model):
+    """An approver's signed acceptance that a revision is endorsed although a required
+    measure of one of its steps is missing or not in the required status (issue 17).
+
+    Signed like a signature (password re-entered, database clock, seal over what it binds,
+    including the revision's content hash); append-only; printed on the dossier cover."""
+
+    revision = models.ForeignKey(
+        ProcessRevision, on_delete=models.PROTECT, related_name="risk_acceptances"
+    )
+    step = models.ForeignKey(
+        "hazards.ReactionStep", on_delete=models.PROTECT, related_name="risk_acceptances"
+    )
+    # The requirement accepted as unmet, as the rule states it (its key and its words).
+    requirement_key = models.CharField(max_length=300)
+    requirement = models.CharField(max_length=600)
+    reason = models.TextField(max_length=4000)
+    signer = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.PROTECT, related_name="+"
+    )
+    printed_name = models.CharField(max_length=300)
+    signed_at = models.DateTimeField()
+    content_sha256 = models.CharField(max_length=64)
+    seal = models.CharField(max_length=64)
+
+    class Meta:
+        ordering = ["revision_id", "signed_at", "id"]
+        constraints = [
+            models.UniqueConstraint(fields=["revision", "step", "requirement_key"],
+                                    name="risk_acceptance_once_per_requirement"),
+            models.CheckConstraint(condition=~Q(reason=""), name="risk_acceptance_has_reason",
+                                   violation_error_message="A risk acceptance needs a reason."),
+        ]
+        triggers = [_append_only("risk_acceptance_append_only")]
+
+    def __str__(self) -> str:
+        return f"risk accepted by {self.printed_name}: {self.requirement}"
 
 
 @tracked()
