@@ -21,6 +21,7 @@ from scipy import integrate
 
 from calcs.constants import R
 from calcs.errors import CalcInputError, require_finite_array, require_positive
+from calcs.result import Result
 
 REFERENCES = ("fisher1992", "astm_e1981", "townsend_tou1980")
 DETECTION_SENSITIVITY_K_PER_S = 0.02 / 60.0  # 0.02 K/min: common practice, no source
@@ -224,3 +225,212 @@ def non_condensable_gas(
     t = require_positive("temperature_k", temperature_k)
     v = require_positive("free_volume_m3", free_volume_m3)
     return max(p, 0.0) * v / (R * t)
+
+
+def first_order_activation_energy(
+    temperature_k,
+    self_heat_rate_k_per_s,
+    onset_k: float,
+    final_k: float,
+    conversion_range: tuple[float, float] = (0.05, 0.8),
+) -> Result:
+    """E of an adiabatic run from its self-heat rate, first order (Townsend & Tou 1980).
+
+    Equation: α = (T − T₀)/(T_f − T₀); k(T) = m_T/(T_f − T) for n = 1;
+    ln k = ln A − E/(R·T), least squares over α in ``conversion_range``.
+
+    Parameters
+    ----------
+    temperature_k : array_like
+        Sample temperature [K], onset to maximum.
+    self_heat_rate_k_per_s : array_like
+        Self-heat rate m_T at those points [K/s].
+    onset_k : float
+        T₀ of the exotherm [K].
+    final_k : float
+        Highest temperature of the exotherm T_f [K].
+    conversion_range : tuple
+        (α_low, α_high) used for the fit [-].
+
+    Returns
+    -------
+    Result
+        E [J/mol]; parameters: ln A [ln(1/s)], standard error of E, r², points used.
+
+    Validity: single-step first-order decomposition; the same φ throughout the run
+    (E does not depend on φ: k = m_T/(T_f − T) holds at any φ). A poor straight line
+    (r² < 0.998, a limit chosen here: a third-order run gives 0.994) is warned about:
+    the reaction is then not first order.
+
+    Examples
+    --------
+    >>> temp = np.linspace(400.0, 500.0, 101)
+    >>> k = 1e9 * np.exp(-100e3 / (R * temp))
+    >>> round(first_order_activation_energy(temp, k * (500.0 - temp), 400.0, 500.0).value)
+    100000
+
+    References
+    ----------
+    Townsend & Tou 1980 (the pseudo-rate constant of an adiabatic run).
+    """
+    temp = require_finite_array("temperature_k", temperature_k)
+    rate = require_finite_array("self_heat_rate_k_per_s", self_heat_rate_k_per_s)
+    t0, tf = float(onset_k), float(final_k)
+    if not tf > t0:
+        raise CalcInputError("final_k", final_k, "must be above the onset")
+    alpha = (temp - t0) / (tf - t0)
+    lo, hi = conversion_range
+    keep = (alpha >= lo) & (alpha <= hi) & (rate > 0) & (temp < tf)
+    if keep.sum() < 5:
+        return Result(None, "J/mol", "arc.first_order_activation_energy",
+                      ("fewer than 5 points between 5 % and 80 % conversion: E unknown",))
+    x, y = 1.0 / temp[keep], np.log(rate[keep] / (tf - temp[keep]))
+    (slope, intercept), cov = np.polyfit(x, y, 1, cov=True)
+    fitted = slope * x + intercept
+    r2 = 1.0 - float(np.sum((y - fitted) ** 2) / np.sum((y - y.mean()) ** 2))
+    warnings = []
+    if r2 < 0.998:
+        warnings.append(f"ln k vs 1/T is not a straight line (r² = {r2:.3f}): not first "
+                        "order, E from the run is doubtful")
+    e = -float(slope) * R
+    if e <= 0:
+        return Result(None, "J/mol", "arc.first_order_activation_energy",
+                      ("the rate constant does not rise with temperature: E unknown",))
+    return Result(
+        e,
+        "J/mol",
+        "arc.first_order_activation_energy",
+        tuple(warnings),
+        {"ln_a_per_s": float(intercept), "stderr_j_per_mol": float(math.sqrt(cov[0, 0])) * R,
+         "r_squared": r2, "points": int(keep.sum())},
+        ("townsend_tou1980",),
+    )
+
+
+def gas_after_cooling(
+    temperature_k,
+    pressure_pa,
+    free_volume_m3: float | None,
+    sample_mass_kg: float,
+    tolerance_k: float = 5.0,
+) -> Result:
+    """Non-condensable gas of a run whose file goes on until the cell has cooled back.
+
+    Equation: if the last temperature is within ``tolerance_k`` of the first one,
+    n = (P_last − P_first)·V_free/(R·T_last) (:func:`non_condensable_gas`), per kg of
+    sample.
+
+    Parameters
+    ----------
+    temperature_k : array_like
+        Sample temperature [K].
+    pressure_pa : array_like
+        Cell pressure [Pa].
+    free_volume_m3 : float or None
+        Gas volume of the cell [m³]; None: only the pressure rise is given.
+    sample_mass_kg : float
+        Sample mass [kg].
+    tolerance_k : float
+        How close to the start the cell must have cooled [K] (common practice, no source).
+
+    Returns
+    -------
+    Result
+        Gas [mol/kg] or None; parameters: pressure rise after cooling [Pa], n [mol].
+
+    Validity: ideal gas; the residue's vapour pressure at the start temperature is
+    taken as part of the initial pressure.
+
+    Examples
+    --------
+    >>> r = gas_after_cooling([298.15, 500.0, 298.15], [101325.0, 9e5, 301325.0], 1e-5, 5e-3)
+    >>> round(r.value, 4)
+    0.1614
+
+    References
+    ----------
+    METHODS.md §12.5; ideal-gas law.
+    """
+    temp = require_finite_array("temperature_k", temperature_k)
+    p = require_finite_array("pressure_pa", pressure_pa)
+    m = require_positive("sample_mass_kg", sample_mass_kg)
+    if abs(temp[-1] - temp[0]) > tolerance_k:
+        return Result(None, "mol/kg", "arc.gas_after_cooling",
+                      (f"the file ends at {temp[-1] - temp[0]:+.1f} K from its start "
+                       "temperature: the cell did not cool back, non-condensable gas unknown",))
+    rise = float(p[-1] - p[0])
+    params = {"pressure_rise_after_cooling_pa": rise,
+              "temperature_after_cooling_k": float(temp[-1])}
+    if free_volume_m3 is None:
+        return Result(None, "mol/kg", "arc.gas_after_cooling",
+                      ("no free volume of the cell: only the pressure rise after cooling "
+                       "is known",), params)
+    n = non_condensable_gas(float(p[-1]), float(temp[-1]), free_volume_m3, float(p[0]))
+    return Result(n / m, "mol/kg", "arc.gas_after_cooling", (), {**params, "gas_mol": n},
+                  ("methods_md",))
+
+
+def corrected_run(time_s, temperature_k, run: AdiabaticRun, phi: float,
+                  activation_energy_j_per_mol: float, points: int = 200) -> dict:
+    """The φ-corrected curve of an analysed run, from the onset to the highest temperature.
+
+    Equation: :func:`phi_correct_curve` on the rows from the onset to T_max where the
+    self-heat rate is positive; TMR_ad at the corrected onset; T_f,ad = T₀,ad + φ·ΔT_meas.
+
+    Parameters
+    ----------
+    time_s, temperature_k : array_like
+        The run's columns [s], [K].
+    run : AdiabaticRun
+        Its analysis.
+    phi : float
+        φ of the cell [-].
+    activation_energy_j_per_mol : float
+        E [J/mol].
+    points : int
+        At most this many rows of the corrected curve are returned (evenly spaced).
+
+    Returns
+    -------
+    dict
+        onset_k, final_k, tmr_at_onset_s [s], curve {temperature_k, self_heat_rate_k_per_s,
+        tmr_s}.
+
+    Validity: as :func:`phi_correct_curve`.
+
+    Examples
+    --------
+    >>> t = np.linspace(0, 1000, 1001)
+    >>> temp = 400 + 50 / (1 + np.exp(-(t - 600) / 40))
+    >>> run = analyse_adiabatic_run(t, temp)
+    >>> c = corrected_run(t, temp, run, 1.0, 100e3)  # φ = 1: the measured run itself
+    >>> round(c["onset_k"], 1), round(c["tmr_at_onset_s"]), round(run.tmr_from_onset_s)
+    (400.0, 329, 329)
+
+    References
+    ----------
+    Fisher et al. 1992; ASTM E1981.
+    """
+    t = np.asarray(time_s, float)
+    temp = np.asarray(temperature_k, float)
+    rate = run.self_heat_rate_k_per_s
+    io = int(np.searchsorted(t, run.onset_time_s))
+    it = io + int(np.argmax(temp[io:]))
+    rows = np.arange(io, it + 1)
+    positive = rate[rows] > 0
+    if not positive.all():
+        rows = rows[: int(np.argmin(positive))]
+    t_ad, r_ad, _, tmr = phi_correct_curve(temp[rows], rate[rows], phi,
+                                           activation_energy_j_per_mol)
+    keep = np.unique(np.r_[np.linspace(0, len(rows) - 1, points).round().astype(int),
+                           int(np.argmax(r_ad))])
+    return {
+        "onset_k": float(t_ad[0]),
+        "final_k": float(t_ad[0] + phi * run.measured_rise_k),
+        "tmr_at_onset_s": float(tmr[0]),
+        "curve": {
+            "temperature_k": t_ad[keep].tolist(),
+            "self_heat_rate_k_per_s": r_ad[keep].tolist(),
+            "tmr_s": tmr[keep].tolist(),
+        },
+    }

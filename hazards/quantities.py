@@ -98,6 +98,7 @@ SPECS: dict[str, QuantitySpec] = {
     ),
     "molar_mass": QuantitySpec("kg/mol", "g/mol", 0.0, False, rule=POSITIVE,
                                plausible=(1e-3, 100.0)),
+    "pressure_rate": QuantitySpec("Pa/s", "bar/min", 0.0, True, rule=NON_NEGATIVE),
     "power": QuantitySpec("watt", "W", None, rule=""),
     "temperature_difference": QuantitySpec("kelvin", "K", None, rule=""),
     "duration_h": QuantitySpec("second", "h", 0.0, False, rule=POSITIVE),

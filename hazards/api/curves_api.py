@@ -25,13 +25,18 @@ DSC test: one file per heating rate, UTF-8 CSV with the header `time [min]`,
 `temperature [degC]`, `heat_flow [mW]` (any unit of the right dimension; exotherm positive,
 or send `exotherm_positive=false`) and the form field `sample_mass` (e.g. `"2.0 mg"`).
 Adiabatic test: `time`, `temperature` and optionally `pressure`, with the cell's
-`phi_factor`. Optional `baseline` (`sigmoidal` default, or `linear`) and integration limits
+`phi_factor` and, for the non-condensable gas after cooling, its `free_volume` (e.g.
+`"10 mL"`). Optional `baseline` (`sigmoidal` default, or `linear`) and integration limits
 `limit_low`/`limit_high` (temperatures; default: where the exotherm leaves and rejoins the
 baseline).
 
 The answer (201) gives the curve's derived extrapolated onset (ASTM E537 tangent), first
 detectable deviation, peak temperature, energy by integration over the baseline and the
-heating rate from the temperature column, each with its method. The test's onset and energy
+heating rate from the temperature column, each with its method. For an adiabatic run: the
+onset at the detection sensitivity (0.02 K/min), the measured TMR, the φ-corrected onset and
+TMR there (Fisher et al. 1992, ASTM E1981; E typed on the test or, first order, from the
+run), maximum pressure and pressure rate, and the non-condensable gas when the file goes on
+until the cell has cooled back to its start temperature. The test's onset and energy
 and, with scans at 3 or more heating rates, its kinetics (nth-order and autocatalytic fits,
 the chosen model, E(α), the autocatalysis screen) are derived from all its curves, and the
 step's TD24 and TMRad come from the chosen model by adiabatic simulation, in the same
@@ -50,6 +55,12 @@ class DecompositionCurveUploadSerializer(serializers.Serializer):
     )
     phi_factor = serializers.FloatField(
         required=False, allow_null=True, min_value=1.0, help_text="φ of an adiabatic test cell."
+    )
+    free_volume = FormQuantityField(
+        "volume",
+        required=False,
+        allow_null=True,
+        help_text='Gas volume of an adiabatic cell, e.g. `"10 mL"`.',
     )
     baseline = serializers.ChoiceField(
         choices=BaselineMethod.choices, default=BaselineMethod.SIGMOIDAL
@@ -73,6 +84,12 @@ class DecompositionCurveSerializer(serializers.Serializer):
     first_deviation_temperature = QuantityField("temperature", read_only=True, allow_null=True)
     peak_temperature = QuantityField("temperature", read_only=True, allow_null=True)
     decomposition_energy = QuantityField("specific_energy", read_only=True, allow_null=True)
+    measured_tmr = QuantityField("time", read_only=True, allow_null=True)
+    corrected_onset_temperature = QuantityField("temperature", read_only=True, allow_null=True)
+    tmr_at_corrected_onset = QuantityField("time", read_only=True, allow_null=True)
+    max_pressure = QuantityField("pressure", read_only=True, allow_null=True)
+    max_pressure_rate = QuantityField("pressure_rate", read_only=True, allow_null=True)
+    non_condensable_gas = QuantityField("specific_amount", read_only=True, allow_null=True)
     methods = serializers.DictField(child=serializers.CharField())
     warnings = serializers.ListField(child=serializers.CharField())
 
@@ -91,6 +108,7 @@ class CurvePermission(permissions.BasePermission):
 
 def payload(test, curve) -> dict:
     d = curve.derived
+    corrected, gas = d.get("corrected") or {}, d.get("gas") or {}
     return {
         "id": curve.pk,
         "test": test.pk,
@@ -108,6 +126,12 @@ def payload(test, curve) -> dict:
             d.get("peak_k") or d.get("temperature_at_max_rate_k"), "temperature"
         ),
         "decomposition_energy": _q(d.get("energy_j_per_kg"), "specific_energy"),
+        "measured_tmr": _q(d.get("measured_tmr_s"), "time"),
+        "corrected_onset_temperature": _q(corrected.get("onset_k"), "temperature"),
+        "tmr_at_corrected_onset": _q(corrected.get("tmr_at_onset_s"), "time"),
+        "max_pressure": _q(d.get("max_pressure_pa"), "pressure"),
+        "max_pressure_rate": _q(d.get("max_pressure_rate_pa_per_s"), "pressure_rate"),
+        "non_condensable_gas": _q(gas.get("mol_per_kg"), "specific_amount"),
         "methods": dict(d.get("methods") or {}),
         "warnings": list(d.get("warnings") or []),
     }
@@ -154,6 +178,7 @@ def _upload(request, test):
             sample_mass_kg=data["sample_mass"],
             exotherm_positive=data["exotherm_positive"],
             phi_factor=data.get("phi_factor"),
+            free_volume_m3=data.get("free_volume"),
             baseline=data["baseline"],
             limits_k=(low, high) if low and high else None,
             expected_test_version=expected,

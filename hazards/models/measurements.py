@@ -187,6 +187,8 @@ class DecompositionCurve(InputModel):
     sample_mass_kg = models.FloatField()
     exotherm_positive = models.BooleanField(default=True)
     phi_factor = models.FloatField(null=True, blank=True)
+    # Gas volume of an adiabatic cell, for the non-condensable gas after cooling.
+    free_volume_m3 = models.FloatField(null=True, blank=True)
     baseline = models.CharField(max_length=10, choices=BaselineMethod.choices,
                                 default=BaselineMethod.SIGMOIDAL)
     limit_low_k = models.FloatField(null=True, blank=True)
@@ -199,6 +201,9 @@ class DecompositionCurve(InputModel):
             models.CheckConstraint(condition=Q(sample_mass_kg__gt=0), name="curve_sample_mass_positive"),
             models.CheckConstraint(condition=Q(phi_factor__isnull=True) | Q(phi_factor__gte=1),
                                    name="curve_phi_at_least_one"),
+            models.CheckConstraint(
+                condition=Q(free_volume_m3__isnull=True) | Q(free_volume_m3__gt=0),
+                name="curve_free_volume_positive"),
             models.CheckConstraint(
                 condition=Q(limit_low_k__isnull=True) | Q(limit_high_k__isnull=True)
                 | Q(limit_low_k__lt=models.F("limit_high_k")),

@@ -15,7 +15,12 @@ from django.core.exceptions import ValidationError
 from django.db import transaction
 
 import calcs
-from calcs.arc import analyse_adiabatic_run
+from calcs.arc import (
+    analyse_adiabatic_run,
+    corrected_run,
+    first_order_activation_energy,
+    gas_after_cooling,
+)
 from calcs.autocatalytic import autocatalysis_screen, choose_model
 from calcs.dsc import analyse_scan
 from calcs.errors import CalcInputError
@@ -70,29 +75,118 @@ def scan_summary(a) -> dict:
     )
 
 
-def run_summary(r, phi) -> dict:
-    """The SI summary stored in `DecompositionCurve.derived` for an adiabatic run."""
+def run_summary(
+    data: dict,
+    *,
+    phi: float | None,
+    sample_mass_kg: float,
+    free_volume_m3: float | None = None,
+    typed_activation_energy: float | None = None,
+) -> dict:
+    """The SI summary stored in `DecompositionCurve.derived` for an adiabatic run.
+
+    Onset at the detection sensitivity, self-heat rate, measured TMR and rise, pressure
+    figures, E (typed on the test, else first order from the run, Townsend & Tou), the
+    φ-corrected curve (onset, final temperature, TMR at the corrected onset, the curve for
+    the charts) and the non-condensable gas after cooling (METHODS.md §12.5).
+    """
+    time, temp, pressure = data["time_s"], data["temperature_k"], data.get("pressure_pa")
+    r = analyse_adiabatic_run(time, temp, pressure)
+    rate = r.self_heat_rate_k_per_s
+    warnings = list(r.warnings)
+    methods = {
+        "onset": "arc.onset at the detection sensitivity 0.02 K/min",
+        "self_heat_rate": "arc.self_heat_rate (central differences)",
+        "tmr": "arc.measured_tmr (onset to maximum self-heat rate)",
+        "adiabatic_rise": "phi·ΔT_meas (ASTM E1981)",
+    }
+    e_fit = first_order_activation_energy(
+        temp, rate, r.onset_k, r.onset_k + r.measured_rise_k
+    )
+    warnings += [f"E from the run: {w}" for w in e_fit.warnings]
+    if typed_activation_energy:
+        e, methods["activation_energy"] = typed_activation_energy, "typed on the test"
+    else:
+        e, methods["activation_energy"] = e_fit.value, "arc.first_order_activation_energy"
+    corrected = None
+    if phi is None:
+        warnings.append("φ not given: the run is not φ-corrected")
+    elif e is None:
+        warnings.append("no activation energy: the run is not φ-corrected")
+    else:
+        corrected = corrected_run(time, temp, r, phi, e)
+        methods["phi_correction"] = "arc.phi_correct_curve (Fisher et al. 1992, ASTM E1981)"
+    gas = None
+    if pressure is not None:
+        g = gas_after_cooling(temp, pressure, free_volume_m3, sample_mass_kg)
+        gas = {"mol_per_kg": g.value, **g.parameters}
+        warnings += list(g.warnings)
+        methods["gas"] = g.method
     return json_safe(
         {
             "kind": "adiabatic",
             "onset_k": r.onset_k,
+            "onset_time_s": r.onset_time_s,
             "max_self_heat_rate_k_per_s": r.max_rate_k_per_s,
             "temperature_at_max_rate_k": r.temperature_at_max_rate_k,
             "measured_tmr_s": r.tmr_from_onset_s,
             "measured_rise_k": r.measured_rise_k,
             "adiabatic_rise_k": (phi or 1.0) * r.measured_rise_k,
             "phi": phi,
+            "activation_energy_j_per_mol": e,
+            "activation_energy_fit": {"value_j_per_mol": e_fit.value, **e_fit.parameters},
+            "corrected": corrected,
             "max_pressure_pa": r.max_pressure_pa,
             "max_pressure_rate_pa_per_s": r.max_pressure_rate_pa_per_s,
-            "warnings": list(r.warnings),
-            "methods": {
-                "onset": "arc.onset at 0.02 K/min",
-                "tmr": "arc.measured_tmr",
-                "adiabatic_rise": "phi·ΔT_meas (ASTM E1981)",
-            },
+            "gas": gas,
+            "warnings": warnings,
+            "methods": methods,
             "calcs_version": calcs.__version__,
         }
     )
+
+
+def derive_adiabatic(test: DecompositionTest, curves) -> tuple[dict, dict]:
+    """(test fields, kinetics JSON) from the adiabatic runs of a test.
+
+    The run with the lowest onset is the basis (the conservative one). The test takes its
+    onset and φ; its E when none was typed (a derived E is marked in `kinetics` so a later
+    run may replace it); its energy as c_p·φ·ΔT_meas with the step's c_p (the sample taken
+    as the reaction mass), when the step has one.
+    """
+    basis = min(curves, key=lambda c: c.derived["onset_k"])
+    d = basis.derived
+    previous = test.kinetics or {}
+    typed_e = (
+        test.activation_energy_j_per_mol
+        if previous.get("activation_energy_source") != "curve"
+        else None
+    )
+    fields = {"onset_temperature_k": d["onset_k"], "phi_factor": basis.phi_factor}
+    methods = {"onset_temperature": "arc.onset of the run with the lowest onset"}
+    source = "typed" if typed_e else None
+    if not typed_e:
+        fields["activation_energy_j_per_mol"] = d.get("activation_energy_j_per_mol")
+        if fields["activation_energy_j_per_mol"] is not None:
+            source = "curve"
+            methods["activation_energy"] = "arc.first_order_activation_energy"
+    cp = test.step.specific_heat_capacity_j_per_kg_k
+    if cp:
+        fields["decomposition_energy_j_per_kg"] = cp * (basis.phi_factor or 1.0) * d[
+            "measured_rise_k"
+        ]
+        methods["decomposition_energy"] = (
+            "c_p of the step × φ × ΔT_meas of the run (sample taken as the reaction mass)"
+        )
+    kinetics = {
+        "status": "adiabatic run: TD24 from the φ-corrected onset",
+        "files_sha256": [c.sha256 for c in curves],
+        "basis_curve_sha256": basis.sha256,
+        "activation_energy_source": source,
+        "methods": methods,
+        "calcs_version": calcs.__version__,
+    }
+    return fields, json_safe(kinetics)
 
 
 def derive_kinetics(curves) -> tuple[dict, dict]:
@@ -171,6 +265,7 @@ def curve_attach(
     sample_mass_kg: float,
     exotherm_positive: bool = True,
     phi_factor: float | None = None,
+    free_volume_m3: float | None = None,
     baseline: str = "sigmoidal",
     limits_k=None,
     expected_test_version: int | None = None,
@@ -196,11 +291,15 @@ def curve_attach(
                 )
             )
         else:
+            previous = test.kinetics or {}
             derived = run_summary(
-                analyse_adiabatic_run(
-                    data["time_s"], data["temperature_k"], data.get("pressure_pa")
-                ),
-                phi_factor,
+                data,
+                phi=phi_factor,
+                sample_mass_kg=sample_mass_kg,
+                free_volume_m3=free_volume_m3,
+                typed_activation_energy=test.activation_energy_j_per_mol
+                if previous.get("activation_energy_source") != "curve"
+                else None,
             )
     except CalcInputError as exc:
         raise _rejected(exc) from None
@@ -217,6 +316,7 @@ def curve_attach(
             sample_mass_kg=sample_mass_kg,
             exotherm_positive=exotherm_positive,
             phi_factor=phi_factor,
+            free_volume_m3=free_volume_m3,
             baseline=baseline,
             limit_low_k=limits_k[0] if limits_k else None,
             limit_high_k=limits_k[1] if limits_k else None,
@@ -248,10 +348,5 @@ def test_refresh(*, test: DecompositionTest) -> DecompositionTest:
         except CalcInputError as exc:
             raise _rejected(exc) from None
     else:
-        last = curves[-1].derived
-        fields = {"onset_temperature_k": last["onset_k"], "phi_factor": curves[-1].phi_factor}
-        kinetics = {
-            "status": "adiabatic run: TD24 from the φ-corrected onset",
-            "files_sha256": [c.sha256 for c in curves],
-        }
+        fields, kinetics = derive_adiabatic(test, curves)
     return record_update(instance=test, data={**fields, "kinetics": kinetics})

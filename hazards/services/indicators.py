@@ -210,6 +210,9 @@ def case_from_row(step_id: int, step: dict, vessel: dict | None, solvent: dict |
             "reference_temperature_k": kinetics.reference_temperature_k,
             "lowest_measured_k": kinetics.lowest_measured_k,
             "files_sha256": list(kinetics.files_sha256)},
+        # the curves of a test without a fitted model (adiabatic runs); only when present
+        **({"decomposition_curves_sha256": (test.get("kinetics") or {})["files_sha256"]}
+           if kinetics is None and (test.get("kinetics") or {}).get("files_sha256") else {}),
         "basis": {
             "calorimetry_run": run.get("id"),
             "calorimetry_run_chosen": _chosen(run or None),

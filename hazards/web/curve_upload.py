@@ -24,7 +24,7 @@ from hazards.forms import QuantityFormField
 from hazards.models import BaselineMethod, DecompositionTest
 from hazards.services import series as parser
 from hazards.services.curves import parse_curve
-from hazards.services.curves_store import analyse_dsc, curve_attach
+from hazards.services.curves_store import analyse_dsc, curve_attach, run_summary
 from hazards.services.records import StaleRecord
 from hazards.services.series_store import SeriesRejected
 from hazards.web import common
@@ -48,6 +48,12 @@ class ChooseCurveForm(forms.Form):
     )
     phi_factor = forms.FloatField(
         label="φ of the test cell (adiabatic runs)", required=False, min_value=1.0
+    )
+    free_volume = QuantityFormField(
+        kind="volume",
+        label="Free gas volume of the cell (adiabatic runs)",
+        required=False,
+        help_text="e.g. 10 mL; gives the non-condensable gas after cooling",
     )
 
 
@@ -86,16 +92,26 @@ def _limits(pending):
 def _context(test, pending):
     raw = base64.b64decode(pending["raw"])
     parsed = parse_curve(raw, kind=test.method)
-    problems, analysis, chart = list(parsed.problems), None, None
-    if parsed.ok and test.method == "dsc":
+    problems, analysis, chart, run = list(parsed.problems), None, None, None
+    if parsed.ok:
         try:
-            analysis = analyse_dsc(
-                parsed.series.data,
-                sample_mass_kg=pending["sample_mass_kg"],
-                exotherm_positive=pending["exotherm_positive"],
-                baseline=pending["baseline"],
-                limits_k=_limits(pending),
-            )
+            if test.method == "dsc":
+                analysis = analyse_dsc(
+                    parsed.series.data,
+                    sample_mass_kg=pending["sample_mass_kg"],
+                    exotherm_positive=pending["exotherm_positive"],
+                    baseline=pending["baseline"],
+                    limits_k=_limits(pending),
+                )
+            else:
+                typed = (test.kinetics or {}).get("activation_energy_source") != "curve"
+                run = run_summary(
+                    parsed.series.data,
+                    phi=pending.get("phi_factor"),
+                    sample_mass_kg=pending["sample_mass_kg"],
+                    free_volume_m3=pending.get("free_volume_m3"),
+                    typed_activation_energy=test.activation_energy_j_per_mol if typed else None,
+                )
         except Exception as exc:  # noqa: BLE001 - a calculation refusal is shown, not raised
             problems.append(
                 parser.SeriesProblem(
@@ -128,8 +144,9 @@ def _context(test, pending):
         "cells": header_cells(raw),
         "rows": first_rows(raw),
         "problems": problems,
-        "ok": not problems and (analysis is not None or test.method != "dsc"),
+        "ok": not problems and (analysis is not None or run is not None),
         "analysis": analysis,
+        "run": run,
         "chart": chart,
         "parsed": parsed.series,
         "limits_form": LimitsForm(
@@ -159,6 +176,7 @@ def choose(request, pk):
                 "sample_mass_kg": form.cleaned_data["sample_mass"],
                 "exotherm_positive": form.cleaned_data["exotherm_positive"],
                 "phi_factor": form.cleaned_data["phi_factor"],
+                "free_volume_m3": form.cleaned_data.get("free_volume"),
                 "baseline": BaselineMethod.SIGMOIDAL,
                 "limit_low_k": None,
                 "limit_high_k": None,
@@ -227,6 +245,7 @@ def confirm(request, pk):
                 sample_mass_kg=pending["sample_mass_kg"],
                 exotherm_positive=pending["exotherm_positive"],
                 phi_factor=pending.get("phi_factor"),
+                free_volume_m3=pending.get("free_volume_m3"),
                 baseline=pending["baseline"],
                 limits_k=_limits(pending),
                 expected_test_version=pending["test_version"],

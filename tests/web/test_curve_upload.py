@@ -11,8 +11,9 @@ import re
 import pytest
 from django.core.files.uploadedfile import SimpleUploadedFile
 
-from hazards.models import DecompositionCurve
+from hazards.models import DecompositionCurve, DecompositionTest
 from hazards.web.curve_upload import SESSION_KEY
+from tests.api.test_adiabatic_curves import arc_file
 from tests.api.test_decomposition_curves import csv_scan
 
 pytestmark = pytest.mark.django_db
@@ -72,3 +73,33 @@ def test_a_bad_scan_lists_row_and_column_and_cannot_be_confirmed(people, step, c
     refused = client.post(f"/decomposition/{test.pk}/curves/confirm/", {})
     assert refused.status_code == 400
     assert DecompositionCurve.objects.count() == 0
+
+
+def test_an_adiabatic_run_is_previewed_with_its_figures_then_stored_on_confirmation(
+    people, step, client_as
+):
+    # first-order run at φ = 2, E = 100 kJ/mol (tests/api/test_adiabatic_curves.py)
+    client = client_as(people["author"])
+    test = DecompositionTest.objects.create(step=step, method="adiabatic")
+    raw, _, _ = arc_file(3001)
+    response = client.post(
+        f"/decomposition/{test.pk}/curves/new/",
+        {
+            "file": SimpleUploadedFile("arc.csv", raw, "text/csv"),
+            "sample_mass": "5 g",
+            "phi_factor": "2",
+            "free_volume": "10 mL",
+        },
+    )
+    assert response.status_code == 302, response.content.decode()[:800]
+    html = client.get(response["Location"]).content.decode()
+    assert "What the adiabatic run gives" in html
+    e = re.search(r"<dt>Activation energy \([^)]*\)</dt><dd>([\d.]+) kJ/mol</dd>", html)
+    assert float(e.group(1)) == pytest.approx(100.0, rel=0.02)  # simulated 100 kJ/mol
+    assert "φ-corrected onset" in html and "Non-condensable gas after cooling" in html
+    assert DecompositionCurve.objects.count() == 0, "nothing may be stored before confirmation"
+    done = client.post(f"/decomposition/{test.pk}/curves/confirm/", {"reason": "ARC run"})
+    assert done.status_code == 302, done.content.decode()[:800]
+    curve = DecompositionCurve.objects.get()
+    assert curve.free_volume_m3 == pytest.approx(1e-5)
+    assert curve.derived["gas"]["mol_per_kg"] > 0
