@@ -8,7 +8,7 @@ from django.db import migrations, models
 class Migration(migrations.Migration):
 
     dependencies = [
-        ('hazards', '0013_decomposition_curves'),
+        ('hazards', '0014_protective_measures'),
     ]
 
     operations = [
