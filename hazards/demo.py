@@ -125,7 +125,8 @@ def _users(password: str) -> None:
                    "change_decompositiontest", "delete_decompositiontest",
                    "add_decompositionpeak", "change_decompositionpeak",
                    "delete_decompositionpeak", "add_calorimetryseries",
-                   "change_calorimetryseries", "add_process", "change_process"],
+                   "change_calorimetryseries", "add_decompositioncurve", "add_process",
+                   "change_process"],
         "reviewer": [], "approver": [], "auditor": [], "admin": [],
     }
     names = {"author": "Ada Demo-Author", "reviewer": "Rui Demo-Reviewer",

@@ -96,6 +96,7 @@ class DecompositionCurveSerializer(serializers.Serializer):
 
 class CurvePermission(permissions.BasePermission):
     perms = ("hazards.add_decompositioncurve", "hazards.change_decompositiontest")
+    allows_every_read = True  # reads are limited by visible() (404), never refused
 
     def has_permission(self, request, view):
         return request.method in permissions.SAFE_METHODS or request.user.has_perms(self.perms)

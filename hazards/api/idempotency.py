@@ -88,6 +88,12 @@ def idempotent(request, handler):
     key = _key(request)
     if key is None or not request.user.is_authenticated:
         return handler()
+    if getattr(request, "_idempotency_key_taken", False):
+        # Already inside `idempotent` for this request (a view wrapper around an action that
+        # calls it itself): the outer call owns the key; a second one would find the outer's
+        # unfinished row and "replay" it.
+        return handler()
+    request._idempotency_key_taken = True
     request_hash = fingerprint(request)
     cutoff = timezone.now() - KEY_TTL
     with transaction.atomic():

@@ -198,7 +198,8 @@ class DecompositionTestViewSet(RecordViewSet):
     filterset_class = filters.DecompositionTestFilter
     ordering_fields = ["test_date", "id"]
     idempotent_actions = ("create", "curves")
-    extra_problems = {"curves": {400: ["series_rejected"]}}
+    idempotent_inside = ("curves",)
+    extra_problems = {"curves:post": {400: ["series_rejected"]}}
 
     @extend_schema(methods=["GET"], responses={200: curves_api.DecompositionCurveSerializer(many=True)},
                    description=curves_api.GET_DOC, filters=False)

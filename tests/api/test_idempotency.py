@@ -186,3 +186,34 @@ def test_six_concurrent_findings_with_one_key_make_one_finding():
     assert [r.status_code for r in responses] == [201] * 6, [r.content for r in responses]
     assert len({r.json()["id"] for r in responses}) == 1
     assert Finding.objects.count() == 1 and IdempotencyKey.objects.count() == 1
+
+
+@pytest.mark.django_db
+def test_upload_actions_run_the_key_once_and_answer_their_own_first_response(api):
+    """A curve or series upload with a key answers 201 with its body the first time and replays
+    it the second time, one record made. The upload actions call `idempotent` themselves; the
+    view's wrapper must not open a second, nested key first (it did for the curve upload: the
+    inner call found the outer's empty row and "replayed" a 200 with no body, nothing stored).
+    Source: draft-ietf-httpapi-idempotency-key-header (first request processed normally)."""
+    from django.core.files.uploadedfile import SimpleUploadedFile
+
+    from tests.api.test_decomposition_curves import csv_scan
+    from tests.factories import StepFactory
+
+    step = StepFactory()
+    test = api.post(
+        "/api/v1/decomposition-tests/", {"step": step.pk, "method": "dsc"}, format="json"
+    ).json()["id"]
+
+    def upload():
+        data = {"sample_mass": "2.0 mg",
+                "file": SimpleUploadedFile("s.csv", csv_scan(5.0), content_type="text/csv")}
+        return api.post(f"/api/v1/decomposition-tests/{test}/curves/", data,
+                        format="multipart", HTTP_IDEMPOTENCY_KEY="curve-1")
+
+    first, again = upload(), upload()
+    assert first.status_code == 201 and "Idempotent-Replayed" not in first
+    assert first.json()["onset_temperature"] is not None
+    assert again.status_code == 201 and again["Idempotent-Replayed"] == "true"
+    assert again.json() == first.json()
+    assert m.DecompositionCurve.objects.filter(test_id=test).count() == 1

@@ -55,6 +55,21 @@ def test_the_demo_has_a_user_for_each_role_named_after_it():
     assert {"author", "reviewer", "approver", "auditor", "admin"} <= names
 
 
+def test_the_demo_author_may_do_what_the_author_pages_and_api_offer():
+    """Every write an author is offered (records, calorimeter series, decomposition curves, the
+    process import) is allowed by the demo author's group: a missing permission would answer
+    403 where the pages show the button (found with the decomposition-curve upload)."""
+    from hazards.api.curves_api import CurvePermission
+    from hazards.api.exchange_api import ImportPermission
+
+    load_demo()
+    from django.contrib.auth import get_user_model
+
+    author = get_user_model().objects.get(username="author")
+    needed = set(CurvePermission.perms) | set(ImportPermission.perms)
+    assert {p for p in needed if not author.has_perm(p)} == set()
+
+
 def test_recomputing_everything_reports_the_steps_whose_class_changed():
     step = StepFactory(process_temperature_k=303.15)
     CalorimetryRunFactory(step=step, specific_reaction_heat_j_per_kg=100e3)
