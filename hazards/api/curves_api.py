@@ -21,7 +21,9 @@ from hazards.services.series_store import SeriesRejected
 
 POST_DOC = f"""Attach one measured curve to the test (multipart form, field `file`).
 
-DSC test: one file per heating rate, UTF-8 CSV with the header `time [min]`,
+DSC test: one file per heating rate, CSV (as for calorimeter series: UTF-8, UTF-16 or
+Latin-1; comma, semicolon or tab separated; a decimal comma in semicolon- or tab-separated
+files) with the header `time [min]`,
 `temperature [degC]`, `heat_flow [mW]` (any unit of the right dimension; exotherm positive,
 or send `exotherm_positive=false`) and the form field `sample_mass` (e.g. `"2.0 mg"`).
 Adiabatic test: `time`, `temperature` and optionally `pressure`, with the cell's

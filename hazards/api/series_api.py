@@ -26,7 +26,10 @@ from hazards.services.series_store import (
 
 POST_DOC = f"""Attach the calorimeter's time series to the run (multipart form, field `file`).
 
-The file is UTF-8 CSV with a header naming each column and its unit in square brackets:
+The file is CSV with a header naming each column and its unit in square brackets (UTF-8,
+UTF-16 or Windows-1252/Latin-1; comma, semicolon or tab separated; in a semicolon- or
+tab-separated file a decimal comma is read, and a file mixing decimal commas and points is
+refused at the cell; problems quote values and limits in the file's own units):
 `time [min]`, `heat_release_rate [W]`, and `dosed_fraction [-]` or `dosed_mass [g]`,
 optionally `reactor_temperature [degC]`; any unit of the right dimension is accepted. Form
 fields `initial_mass` and `feed_mass` are the lab-scale masses (e.g. `"400 g"`). A

@@ -1,7 +1,9 @@
 """Decomposition curves: parse a DSC scan or an adiabatic run (pure, for previews).
 
-CSV text like the calorimeter series (`hazards.services.series`: UTF-8, one header row
-with units in square brackets, plain decimal numbers, refused whole with row and column):
+CSV text like the calorimeter series (`hazards.services.series`: one header row with units
+in square brackets, plain decimal numbers, refused whole with row and column, values and
+limits quoted in the file's own units; encodings, separators and decimal marks of
+instrument exports as `hazards.services.table` reads them):
 
     time [min],temperature [degC],heat_flow [mW]          (DSC, exotherm positive)
     time [min],temperature [degC],pressure [bar]          (adiabatic; pressure optional)
@@ -13,21 +15,20 @@ from __future__ import annotations
 
 import csv
 import hashlib
-import io
 from dataclasses import dataclass
 
 import numpy as np
 
+from hazards.quantities import size_text
 from hazards.services.series import (
     _HEADER,
     MAX_BYTES,
     MAX_ROWS,
     SeriesParse,
-    _decode,
     _linear_to_si,
     _Problems,
-    read_rows,
 )
+from hazards.services.table import in_file_unit, open_table, read_rows
 
 # kind -> {column: (SI unit, example unit, required)}
 CURVE_COLUMNS = {
@@ -58,14 +59,12 @@ class ParsedCurve:
     columns: dict[str, str]  # column -> unit as written
     rows: int
     sha256: str
+    read_as: str = "UTF-8, comma-separated"  # encoding and separator (`table.Table`)
 
 
 def _header(kind: str, cells: list[str], problems: _Problems) -> dict:
     spec = CURVE_COLUMNS[kind]
     found: dict[str, tuple[int, str, str]] = {}
-    if len(cells) == 1 and (";" in cells[0] or "\t" in cells[0]):
-        problems.add(1, cells[0], cells[0], "columns must be separated by commas", "delimiter")
-        return found
     for index, cell in enumerate(cells):
         match = _HEADER.match(cell)
         name = match.group(1).strip().lower().replace(" ", "_") if match else None
@@ -103,16 +102,20 @@ def parse_curve(
     problems = _Problems()
     if len(raw) > max_bytes:
         problems.add(
-            None, None, len(raw), f"is larger than the limit of {max_bytes} bytes", "too_large"
+            None,
+            None,
+            len(raw),
+            f"is larger than the limit of {size_text(max_bytes)}",
+            "too_large",
         )
         return problems.result()
     if not raw.strip():
         problems.add(None, None, None, "is empty", "empty_file")
         return problems.result()
-    text = _decode(raw, problems)
-    if text is None:
+    table = open_table(raw, problems)
+    if table is None:
         return problems.result()
-    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
+    reader = table.reader()
     try:
         header = next(reader)
     except csv.Error as exc:
@@ -129,27 +132,30 @@ def parse_curve(
             problems.add(1, cell, unit, rule, code)
     if problems:
         return problems.result()
-    values, rows = read_rows(reader, len(header), columns, problems, max_rows)
+    values, rows, written = read_rows(reader, len(header), columns, problems, max_rows, table)
     if problems:
         return problems.result()
     si = {
         name: np.asarray(v) * conversions[name][0] + conversions[name][1]
         for name, v in values.items()
     }
+    time_unit = columns["time"][2]
     for i in np.flatnonzero(np.diff(si["time"]) <= 0)[:50]:
         problems.add(
             rows[i + 1],
             columns["time"][1],
-            repr(float(values["time"][i + 1])),
-            "time must increase from row to row",
+            written["time"][i + 1],
+            f"time must increase from row to row (the row before has "
+            f"{written['time'][i]} {time_unit})",
             "not_increasing",
         )
+    zero = in_file_unit(0.0, conversions["temperature"], columns["temperature"][2])
     for i in np.flatnonzero(si["temperature"] <= 0)[:50]:
         problems.add(
             rows[i],
             columns["temperature"][1],
-            repr(float(values["temperature"][i])),
-            "must be above absolute zero (0 K)",
+            written["temperature"][i],
+            f"must be above absolute zero ({zero})",
             "out_of_range",
         )
     if "pressure" in si:
@@ -157,9 +163,18 @@ def parse_curve(
             problems.add(
                 rows[i],
                 columns["pressure"][1],
-                repr(float(values["pressure"][i])),
+                written["pressure"][i],
                 "must be an absolute pressure (not negative)",
                 "out_of_range",
+            )
+    for name, col in si.items():
+        for i in np.flatnonzero(~np.isfinite(col))[:50]:
+            problems.add(
+                rows[i],
+                columns[name][1],
+                written[name][i],
+                "is out of range after unit conversion",
+                "not_finite",
             )
     if problems:
         return problems.result()
@@ -169,5 +184,6 @@ def parse_curve(
             columns={name: unit for name, (_, _, unit) in columns.items()},
             rows=len(rows),
             sha256=hashlib.sha256(raw).hexdigest(),
+            read_as=table.description,
         )
     )

@@ -1,21 +1,27 @@
 """Calorimeter series files: parse (pure, for previews) and attach to a run (a write).
 
-The file is CSV text, UTF-8 (a BOM is accepted), comma-separated, one header row naming
-the columns with their units in square brackets, then one row per time stamp:
+The file is CSV text, one header row naming the columns with their units in square
+brackets, then one row per time stamp:
 
     time [min],heat_release_rate [W],dosed_mass [g],reactor_temperature [degC]
     0,0.0,0,25.0
     0.5,1.2,4.1,25.1
+
+Instrument exports are read as `hazards.services.table` describes: UTF-8, UTF-16 or
+Windows-1252/Latin-1; comma, semicolon or tab separated; a decimal comma in semicolon- or
+tab-separated files (`0,5;1,2`).
 
 Columns: `time` and `heat_release_rate` are required; exactly one of `dosed_fraction`
 (a fraction, `[-]`, `[1]` or `[%]`) and `dosed_mass` (a mass, converted with the feed mass);
 `reactor_temperature` is optional (without it the step's process temperature is used).
 Any unit of the right dimension is accepted (`s`, `min`, `h`; `W`, `mW`; `g`, `kg`; `K`,
 `degC`, `°C`, `degF`). Every cell must be a plain decimal number (`-0.5`, `1e-3`): empty
-cells, `nan`, `inf`, overflowing values such as `1e309`, decimal commas, thousands
-separators and spreadsheet formulas (`=SUM(A1:A3)`) are refused. `time` must increase
+cells, `nan`, `inf`, overflowing values such as `1e309`, a decimal comma in a
+comma-separated file, thousands separators and spreadsheet formulas (`=SUM(A1:A3)`) are
+refused. `time` must increase
 strictly. A file is refused as a whole, with the row and column of every problem
-(rows count records, the header being row 1). Limits: `MAX_BYTES`, `MAX_ROWS` data rows,
+(rows count records, the header being row 1), each value quoted as the file writes it and
+each limit in the file's own unit. Limits: `MAX_BYTES`, `MAX_ROWS` data rows,
 and at most `MAX_PROBLEMS` problems are listed.
 """
 
@@ -23,14 +29,13 @@ from __future__ import annotations
 
 import csv
 import hashlib
-import io
-import math
 import re
 from dataclasses import dataclass, field
 
 import numpy as np
 
 from hazards.quantities import normalise_unit, size_text
+from hazards.services.table import in_file_unit, open_table, read_rows
 
 MAX_BYTES = 4 * 1024 * 1024
 MAX_ROWS = 50_000
@@ -53,14 +58,6 @@ EXAMPLE_UNIT = {"time": "min", "heat_release_rate": "W", "dosed_fraction": "-",
                 "dosed_mass": "g", "reactor_temperature": "degC"}
 DIMENSIONLESS = {"-", "1", "", "fraction"}
 _HEADER = re.compile(r"^\s*([A-Za-z_][A-Za-z0-9_ ]*?)\s*(?:\[\s*(.*?)\s*\])?\s*$")
-_NUMBER = re.compile(r"^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$")
-_NON_FINITE = re.compile(r"^[+-]?(nan|inf|infinity)$", re.I)
-_FORMULA_START = ("=", "@", "\t", "\r")
-_MAGIC = {
-    b"PK\x03\x04": "a ZIP archive or .xlsx workbook",
-    b"\xd0\xcf\x11\xe0": "an .xls workbook",
-    b"%PDF": "a PDF document",
-}
 
 
 @dataclass(frozen=True)
@@ -89,6 +86,7 @@ class ParsedSeries:
     columns: dict[str, str]  # column -> unit as written in the header
     rows: int
     sha256: str
+    read_as: str = "UTF-8, comma-separated"  # encoding and separator (`table.Table`)
 
     @property
     def data(self) -> dict:
@@ -159,47 +157,9 @@ def _linear_to_si(column: str, unit_text: str, target: str | None = None,
     return a, b
 
 
-def _decode(raw: bytes, problems: _Problems) -> str | None:
-    for magic, what in _MAGIC.items():
-        if raw.startswith(magic):
-            problems.add(None, None, None, f"is {what}, not a CSV text file", "not_csv")
-            return None
-    if raw.startswith((b"\xff\xfe", b"\xfe\xff")) or b"\x00" in raw[:4096]:
-        problems.add(None, None, None, "must be UTF-8 text (this looks like UTF-16 or binary)",
-                     "encoding")
-        return None
-    if raw.startswith(b"\xef\xbb\xbf"):
-        raw = raw[3:]
-    lines = raw.split(b"\n")
-    header_cells = None
-    for number, line in enumerate(lines, start=1):
-        try:
-            text = line.decode("utf-8")
-            if number == 1:
-                header_cells = [c.strip() for c in text.split(",")]
-        except UnicodeDecodeError as exc:
-            cell = line[: exc.start].count(b",")
-            column = (header_cells[cell] if header_cells and cell < len(header_cells)
-                      else f"column {cell + 1}")
-            problems.add(number, column, repr(line[exc.start:exc.start + 4])[2:-1],
-                         "is not valid UTF-8 (save the file as UTF-8 CSV)", "encoding")
-    if problems:
-        return None
-    text = raw.decode("utf-8")
-    if "\x00" in text:
-        problems.add(None, None, None, "contains NUL characters (a binary file?)", "encoding")
-        return None
-    return text
-
-
 def _header(cells: list[str], problems: _Problems) -> dict[str, tuple[int, str, str]]:
     """column -> (index, header text, unit text)."""
     found: dict[str, tuple[int, str, str]] = {}
-    if len(cells) == 1 and (";" in cells[0] or "\t" in cells[0]):
-        sep = ";" if ";" in cells[0] else "tab"
-        problems.add(1, cells[0], cells[0], f"columns must be separated by commas, not {sep}",
-                     "delimiter")
-        return found
     named: set[str] = set()
     for index, cell in enumerate(cells):
         match = _HEADER.match(cell)
@@ -230,19 +190,6 @@ def _header(cells: list[str], problems: _Problems) -> dict[str, tuple[int, str, 
     return found
 
 
-def _cell_problem(cell: str) -> tuple[str, str]:
-    text = cell.strip()
-    if not text:
-        return "is empty", "empty"
-    if _NON_FINITE.match(text):
-        return "must be a finite number", "not_finite"
-    if text.startswith(_FORMULA_START) or re.match(r"^[+-][A-Za-z(]", text):
-        return "is a spreadsheet formula, not a number", "formula"
-    if re.match(r"^[+-]?\d+,\d+$", text):
-        return "must use a decimal point, not a comma", "not_a_number"
-    return "must be a number", "not_a_number"
-
-
 def parse_series(raw: bytes, *, feed_mass_kg: float | None = None,
                  max_bytes: int = MAX_BYTES, max_rows: int = MAX_ROWS) -> SeriesParse:
     """Parse a calorimeter CSV file into SI columns, or list every problem in it.
@@ -258,10 +205,10 @@ def parse_series(raw: bytes, *, feed_mass_kg: float | None = None,
     if not raw.strip():
         problems.add(None, None, None, "is empty", "empty_file")
         return problems.result()
-    text = _decode(raw, problems)
-    if text is None:
+    table = open_table(raw, problems)
+    if table is None:
         return problems.result()
-    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
+    reader = table.reader()
     try:
         header = next(reader)
     except csv.Error as exc:
@@ -278,7 +225,8 @@ def parse_series(raw: bytes, *, feed_mass_kg: float | None = None,
     if problems:
         return problems.result()
 
-    values, row_numbers = read_rows(reader, len(header), columns, problems, max_rows)
+    values, row_numbers, written = read_rows(reader, len(header), columns, problems, max_rows,
+                                             table)
     if "dosed_mass" in columns and (feed_mass_kg is None or not feed_mass_kg > 0):
         problems.add(1, columns["dosed_mass"][1], None,
                      "a dosed_mass column needs the feed mass to give the dosed fraction",
@@ -288,7 +236,7 @@ def parse_series(raw: bytes, *, feed_mass_kg: float | None = None,
 
     si = {name: np.asarray(col) * conversions[name][0] + conversions[name][1]
           for name, col in values.items()}
-    _physical_checks(si, columns, row_numbers, problems)
+    _physical_checks(si, columns, conversions, row_numbers, written, problems)
     if problems:
         return problems.result()
     if "dosed_mass" in si:
@@ -301,7 +249,7 @@ def parse_series(raw: bytes, *, feed_mass_kg: float | None = None,
                 "above 1 is a surplus feed)")
         limit = MAX_EQUIVALENTS
     for i in np.flatnonzero(fraction > limit + FRACTION_TOLERANCE)[:MAX_PROBLEMS]:
-        problems.add(row_numbers[i], columns[name][1], repr(float(values[name][i])), rule,
+        problems.add(row_numbers[i], columns[name][1], written[name][i], rule,
                      "out_of_range")
     if problems:
         return problems.result()
@@ -317,69 +265,33 @@ def parse_series(raw: bytes, *, feed_mass_kg: float | None = None,
         columns={name: unit for name, (_, _, unit) in columns.items()},
         rows=len(row_numbers),
         sha256=hashlib.sha256(raw).hexdigest(),
+        read_as=table.description,
     ))
 
 
-def read_rows(reader, width: int, columns: dict, problems: _Problems, max_rows: int):
-    """Read the data rows of `columns` (name -> (index, header text, unit)) as floats.
-
-    Returns ({name: values}, the file's row number of each value); every bad cell, ragged
-    row, CSV error or missing data is added to `problems` with its row and column."""
-    values: dict[str, list[float]] = {name: [] for name in columns}
-    row_numbers: list[int] = []
-    record = 1  # the header
-    try:
-        for cells in reader:
-            record += 1
-            if not cells or all(not c.strip() for c in cells):
-                continue  # blank lines (e.g. a trailing newline)
-            if len(row_numbers) >= max_rows:
-                problems.add(record, None, None,
-                             f"the file has more than the limit of {max_rows} data rows",
-                             "too_many_rows")
-                break
-            row_numbers.append(record)
-            if len(cells) != width:
-                problems.add(record, None, ",".join(cells)[:80],
-                             f"has {len(cells)} cells, the header has {width} (a decimal "
-                             "comma or thousands separator?)", "ragged_row")
-                continue
-            for name, (index, cell_name, _) in columns.items():
-                cell = cells[index].strip()
-                number = float(cell) if _NUMBER.match(cell) else None
-                if number is None or not math.isfinite(number):
-                    rule, code = (("must be a finite number", "not_finite") if number is not None
-                                  else _cell_problem(cell))
-                    problems.add(record, cell_name, cell, rule, code)
-                    number = math.nan
-                values[name].append(number)
-    except csv.Error as exc:
-        problems.add(record + 1, None, None, f"is not valid CSV ({exc})", "csv")
-    if not row_numbers and not problems:
-        problems.add(2, None, None, "the file has no data rows", "no_rows")
-    elif len(row_numbers) == 1 and not problems:
-        problems.add(row_numbers[0] + 1, None, None, "the file needs at least two data rows",
-                     "no_rows")
-    return values, row_numbers
-
-
-def _physical_checks(si: dict, columns: dict, rows: list[int], problems: _Problems) -> None:
+def _physical_checks(si: dict, columns: dict, conversions: dict, rows: list[int],
+                     written: dict, problems: _Problems) -> None:
+    """Physical rules on the SI values; each problem quotes the cell and the limit in the
+    file's own unit."""
     time = si["time"]
     for i in np.flatnonzero(np.diff(time) <= 0)[:MAX_PROBLEMS]:
-        problems.add(rows[i + 1], columns["time"][1], repr(float(time[i + 1])),
-                     "time must increase from row to row", "not_increasing")
+        problems.add(rows[i + 1], columns["time"][1], written["time"][i + 1],
+                     f"time must increase from row to row (the row before has "
+                     f"{written['time'][i]} {columns['time'][2]})", "not_increasing")
     for name, rule, bad in (
         ("dosed_fraction", "must not be negative", lambda v: v < 0),
         ("dosed_mass", "must not be negative", lambda v: v < 0),
-        ("reactor_temperature", "must be above absolute zero (0 K)", lambda v: v <= 0),
+        ("reactor_temperature", None, lambda v: v <= 0),
     ):
         if name in si:
+            if rule is None:
+                zero = in_file_unit(0.0, conversions[name], columns[name][2])
+                rule = f"must be above absolute zero ({zero})"
             for i in np.flatnonzero(bad(si[name]))[:MAX_PROBLEMS]:
-                problems.add(rows[i], columns[name][1], repr(float(si[name][i])), rule,
+                problems.add(rows[i], columns[name][1], written[name][i], rule,
                              "out_of_range")
     for name, col in si.items():
         for i in np.flatnonzero(~np.isfinite(col))[:MAX_PROBLEMS]:
             # A finite value that overflows in SI (e.g. 1e308 h).
-            problems.add(rows[i], columns[name][1], None,
+            problems.add(rows[i], columns[name][1], written[name][i],
                          "is out of range after unit conversion", "not_finite")
-

@@ -38,7 +38,9 @@ class ChooseCurveForm(forms.Form):
     file = forms.FileField(
         label="Curve file (CSV)",
         help_text=(
-            "UTF-8 CSV with a header such as: time [min], temperature [degC], heat_flow [mW] "
+            "CSV (UTF-8, UTF-16 or Latin-1; comma, semicolon or tab; a decimal comma with "
+            "semicolons or tabs) with a header such as: time [min], temperature [degC], "
+            "heat_flow [mW] "
             "(an adiabatic run: time, temperature and optionally pressure [bar])."
         ),
     )

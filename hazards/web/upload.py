@@ -34,6 +34,7 @@ from hazards.services.series_store import (
     analyse_series,
     series_attach,
 )
+from hazards.services.table import open_table
 from hazards.web import common
 from hazards.web.diff import indicator_change_text
 from hazards.web.display import number
@@ -47,7 +48,9 @@ _HEADER = re.compile(r"^\s*([^\[\]]*?)\s*(?:\[\s*(.*?)\s*\])?\s*$")
 
 class ChooseForm(forms.Form):
     file = forms.FileField(label="Calorimeter file (CSV)", help_text=(
-        "UTF-8 CSV with a header such as: time [min], heat_release_rate [W], dosed_mass [g] "
+        "CSV (UTF-8, UTF-16 or Latin-1; comma, semicolon or tab; a decimal comma with "
+        "semicolons or tabs) with a header such as: time [min], heat_release_rate [W], "
+        "dosed_mass [g] "
         "or dosed_fraction [-], and optionally reactor_temperature [degC]; at most "
         f"{size_text(parser.MAX_BYTES)}."))
     initial_mass = QuantityFormField(kind="mass", label="Lab-scale mass before dosing",
@@ -65,11 +68,24 @@ class ConfirmForm(forms.Form):
                              widget=forms.Textarea(attrs={"rows": 2}))
 
 
+def _table(raw: bytes):
+    """The file's text and separator as the parser reads it (None if it cannot be read)."""
+    return open_table(raw, _Ignored())
+
+
+class _Ignored(list):
+    def add(self, *args) -> None:  # the parser reports the problem; the preview only shows
+        self.append(args)
+
+
 def header_cells(raw: bytes) -> list[dict]:
     """The columns of the header as written: name and unit (for the preview)."""
-    first = raw.split(b"\n", 1)[0].decode("utf-8", "replace").lstrip("\ufeff").strip("\r")
+    table = _table(raw)
+    if table is None:
+        return []
+    first = table.text.split("\n", 1)[0].strip("\r")
     cells = []
-    for index, cell in enumerate(first.split(",")):
+    for index, cell in enumerate(first.split(table.separator)):
         match = _HEADER.match(cell)
         name, unit = (match.group(1), match.group(2)) if match else (cell, None)
         cells.append({"index": index, "text": cell.strip(), "name": name.strip(),
@@ -78,25 +94,28 @@ def header_cells(raw: bytes) -> list[dict]:
 
 
 def with_units(raw: bytes, units: dict[int, str]) -> bytes:
-    """The file with the units of some header cells replaced (the person's corrections)."""
-    if not units:
+    """The file with the units of some header cells replaced (the person's corrections),
+    as UTF-8 text with the file's own separator."""
+    table = _table(raw) if units else None
+    if table is None:
         return raw
-    head, sep, rest = raw.partition(b"\n")
-    text = head.decode("utf-8", "replace")
-    bom = text.startswith("\ufeff")
-    cells = text.lstrip("\ufeff").rstrip("\r").split(",")
+    head, sep, rest = table.text.partition("\n")
+    cells = head.rstrip("\r").split(table.separator)
     for index, unit in units.items():
         if 0 <= index < len(cells):
             name = _HEADER.match(cells[index]).group(1).strip() or cells[index].strip()
             cells[index] = f"{name} [{unit}]"
-    line = ("\ufeff" if bom else "") + ",".join(cells) + ("\r" if head.endswith(b"\r") else "")
-    return line.encode("utf-8") + sep + rest
+    line = table.separator.join(cells) + ("\r" if head.endswith("\r") else "")
+    return (line + sep + rest).encode("utf-8")
 
 
 def first_rows(raw: bytes, limit: int = PREVIEW_ROWS) -> list[list[str]]:
-    text = raw[:65536].decode("utf-8", "replace").lstrip("\ufeff")
+    table = _table(raw)
+    if table is None:
+        return []
     rows = []
-    for number_, row in enumerate(csv.reader(io.StringIO(text))):
+    for number_, row in enumerate(csv.reader(io.StringIO(table.text[:65536]),
+                                             delimiter=table.separator)):
         if number_ == 0:
             continue
         rows.append(row)

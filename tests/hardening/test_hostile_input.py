@@ -48,9 +48,13 @@ GOOD_ROWS = "0,0,0,30\n10,10,100,30\n20,0,100,30\n"
 CSVS = {
     "empty": b"",
     "header only": CSV_HEADER.encode(),
-    "utf-16": (CSV_HEADER + GOOD_ROWS).encode("utf-16"),
-    "latin-1 degree": "time [min],heat_release_rate [W],dosed_mass [g],reactor_temperature [°C]\n"
-                      "0,0,0,30\n10,10,100,30\n".encode("latin-1"),
+    # UTF-16 and Latin-1 exports are read (tests/api/test_instrument_exports.py); these are not:
+    "utf-32": (CSV_HEADER + GOOD_ROWS).encode("utf-32"),
+    "utf-8 and latin-1 mixed": "time [min],heat_release_rate [W],dosed_mass [g],"
+                               "reactor_temperature [°C]\n0,0,0,30\n".encode()
+                               + "10,10,100,30°\n".encode("latin-1"),
+    "two decimal marks": (CSV_HEADER.replace(",", ";") + "0;0,5;0;30\n10;1.500;100;30\n"
+                          ).encode(),
     "nan": (CSV_HEADER + "0,0,0,30\n10,NaN,100,30\n20,0,100,30\n").encode(),
     "infinity": (CSV_HEADER + "0,0,0,30\n10,inf,100,30\n20,0,100,30\n").encode(),
     "1e309": (CSV_HEADER + "0,0,0,30\n10,1e309,100,30\n20,0,100,30\n").encode(),

@@ -105,3 +105,25 @@ def test_after_an_upload_the_page_says_whether_the_indicators_changed(people, st
     done = client.post(f"/steps/{step.pk}/calorimetry/upload/confirm/", {}, follow=True)
     # The new run is not the step's basis (another run is marked), so nothing moves.
     assert UNCHANGED in done.content.decode()
+
+
+def test_a_latin1_semicolon_export_is_previewed_in_its_columns_and_corrected(people, step,
+                                                                            client_as):
+    from tests.api.test_instrument_exports import export
+
+    client = client_as(people["author"])
+    raw = export("series_cp1252_semicolon_decimal_comma.csv").replace(b"[W]", b"[K]")
+    html = client.get(choose(client, step, raw)["Location"]).content.decode()
+    # the columns split at the semicolons, the degree sign read from byte 0xB0, the rows
+    # with their decimal commas as written
+    assert "reactor_temperature" in html and "°C" in html and "<td>30,0</td>" in html
+    assert "wrong dimension for heat_release_rate" in html
+    client.post(f"/steps/{step.pk}/calorimetry/upload/preview/",
+                {"action": "units", "unit-1": "W"})
+    html = client.get(f"/steps/{step.pk}/calorimetry/upload/preview/").content.decode()
+    assert "No problems: 3 data rows read." in html
+    assert client.post(f"/steps/{step.pk}/calorimetry/upload/confirm/", {}).status_code == 302
+    series = CalorimetrySeries.objects.get()
+    assert series.columns == {"time": "min", "heat_release_rate": "W", "dosed_mass": "g",
+                              "reactor_temperature": "°C"}
+    assert series.data["heat_release_rate_w"] == [0.0, 10.0, 0.0]  # 10,0 W read as 10 W
