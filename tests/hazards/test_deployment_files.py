@@ -101,3 +101,53 @@ def test_serve_runs_gunicorn_and_a_worker_and_stops_the_worker_when_gunicorn_exi
     pid = int(marker.read_text())
     # The worker was terminated and reaped: no such process any more.
     assert subprocess.run(["kill", "-0", str(pid)], capture_output=True).returncode != 0
+
+
+def test_stopping_the_server_stops_the_embedded_database_and_never_a_named_one(monkeypatch):
+    """Issue 21 (set-up): when `serve` ends, the embedded PostgreSQL it used is stopped too;
+    `--keep-database` leaves it, and a server named by DATABASE_URL is never touched.
+    A real embedded server is started in a scratch folder and must be gone afterwards."""
+    import os
+    import shutil
+    import tempfile
+    from pathlib import Path
+    from unittest import mock
+
+    import pgserver
+    import psutil
+
+    from hazards.management.commands import serve
+
+    scratch = Path(tempfile.mkdtemp(prefix="exoledger-stop-"))
+    scratch.chmod(0o755)  # pgserver runs the server as its own user when started by root
+    try:
+        folder = scratch / "pgdata"
+        server = pgserver.get_server(str(folder), cleanup_mode=None)
+        pid = server.get_pid()
+        assert pid is not None and psutil.pid_exists(pid)
+        monkeypatch.setenv("DATABASE_URL", "postgres://postgres@127.0.0.1:5432/x")
+        assert serve.stop_embedded_database() is False  # a named server: nothing to stop
+        assert psutil.pid_exists(pid)
+        assert serve.stop_embedded_database(folder) is True
+        assert not (folder / "postmaster.pid").exists()
+        assert not psutil.pid_exists(pid) or psutil.Process(pid).status() == "zombie"
+        assert serve.stop_embedded_database(folder) is False  # already stopped
+    finally:
+        pgserver.PostgresServer._instances.pop(folder.resolve(), None)
+        shutil.rmtree(scratch, ignore_errors=True)
+
+    calls = []
+    with (
+        mock.patch.object(serve, "call_command"),
+        mock.patch.object(serve, "supervise", return_value=0),
+        mock.patch("hazards.oversight.tasks.schedule_next"),
+        mock.patch.object(serve, "stop_embedded_database", side_effect=lambda: calls.append(1)),
+    ):
+        for keep in (False, True):
+            try:
+                serve.Command().handle(bind="127.0.0.1:1", workers=1, demo=False,
+                                       no_serve=False, keep_database=keep)
+            except SystemExit as done:
+                assert done.code == 0
+    assert calls == [1]  # once: not with --keep-database
+    assert os.environ.get("DATABASE_URL")  # monkeypatch restores it afterwards

@@ -8,11 +8,15 @@ import signal
 import subprocess
 import sys
 import time
+from pathlib import Path
 
+import pgserver
 from django.conf import settings
 from django.core.management import call_command
 from django.core.management.base import BaseCommand
+from django.db import connections
 
+from hazards.db import data_dir
 from hazards.demo import ROLES, load_demo
 
 
@@ -24,8 +28,14 @@ class Command(BaseCommand):
         parser.add_argument("--bind", default=os.environ.get("EXOLEDGER_BIND", "127.0.0.1:8000"))
         parser.add_argument("--workers", type=int, default=int(os.environ.get("WEB_CONCURRENCY", 3)))
         parser.add_argument("--no-serve", action="store_true", help="Prepare only; do not serve.")
+        parser.add_argument(
+            "--keep-database",
+            action="store_true",
+            help="Leave the embedded PostgreSQL running when the server stops (by default it "
+            "stops with it; a server named by DATABASE_URL is never touched).",
+        )
 
-    def handle(self, *args, bind, workers, demo, no_serve, **options):
+    def handle(self, *args, bind, workers, demo, no_serve, keep_database, **options):
         call_command("migrate", interactive=False, verbosity=0)
         call_command("collectstatic", interactive=False, verbosity=0)
         url = f"http://{bind}/"
@@ -49,7 +59,35 @@ class Command(BaseCommand):
         argv = [gunicorn, "hazards.wsgi:application", "--bind", bind, "--workers", str(workers),
                 "--timeout", "60", "--graceful-timeout", "20", "--access-logfile", "-"]
         os.environ.setdefault("DJANGO_SETTINGS_MODULE", settings.SETTINGS_MODULE)
-        raise SystemExit(supervise(argv, worker_argv(), others=(housekeeping_argv(),)))
+        code = supervise(argv, worker_argv(), others=(housekeeping_argv(),))
+        if not keep_database and stop_embedded_database():
+            self.stdout.write("The embedded PostgreSQL was stopped (--keep-database keeps it).")
+        raise SystemExit(code)
+
+
+def stop_embedded_database(folder: Path | None = None) -> bool:
+    """Stop the embedded PostgreSQL of this checkout (fast shutdown: open sessions are ended,
+    committed work is kept). Nothing happens when DATABASE_URL names a server or when the
+    embedded one is not running. Returns whether a server was stopped."""
+    if folder is None:
+        if os.environ.get("DATABASE_URL"):
+            return False
+        folder = data_dir() / "pgdata"
+    if not (folder / "postmaster.pid").exists():
+        return False
+    connections.close_all()
+    pg_ctl = Path(pgserver.__file__).parent / "pginstall" / "bin" / "pg_ctl"
+    # pgserver runs the server as its own system user when started by root; pg_ctl refuses
+    # to run as root, so it runs as that user too.
+    user = "pgserver" if os.geteuid() == 0 else None
+    done = subprocess.run(
+        [str(pg_ctl), "-D", str(folder), "-m", "fast", "-w", "-t", "30", "stop"],
+        user=user,
+        capture_output=True,
+        text=True,
+        check=False,
+    )
+    return done.returncode == 0
 
 
 def housekeeping_argv() -> list[str]:
