@@ -12,6 +12,9 @@ from calcs.adiabatic_sim import td_simulated, td_uncertainty, tmr_simulated
 from calcs.errors import CalcInputError
 from calcs.rate_models import RATE_MODELS
 
+#: coverage of the TD24 band (fit and scan-to-scan covariance, Student's t)
+TD24_BAND_LEVEL = 0.90
+
 
 def kinetic_td24(c) -> bool:
     """Set TD24 from the fitted model; False when the step has no usable fitted model."""
@@ -44,10 +47,20 @@ def kinetic_td24(c) -> bool:
     for w in td.warnings:
         c.warn(w)
     if td.value is not None and k.covariance is not None:
-        band = td_uncertainty(k.model, k.parameters, k.covariance, k.reference_temperature_k, rise)
+        band = td_uncertainty(
+            k.model,
+            k.parameters,
+            k.covariance,
+            k.reference_temperature_k,
+            rise,
+            rise_stderr_k=k.energy_stderr_j_per_kg / cp,
+            dof=k.degrees_of_freedom,
+            level=TD24_BAND_LEVEL,
+        )
         if band.value is not None:
             c.parameters["td24_standard_uncertainty_k"] = band.value
             c.parameters["td24_band_k"] = band.parameters["band_k"]
+            c.parameters["td24_band_level"] = TD24_BAND_LEVEL
     c.ref("townsend_tou1980", "ictac2011", "methods_md")
     c.out["td24_k"] = td.value
     if td.value is None:

@@ -12,7 +12,7 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy import integrate, optimize
+from scipy import integrate, optimize, stats
 
 from calcs.constants import DAY, R
 from calcs.errors import CalcInputError, require_absolute_temperature, require_positive
@@ -316,11 +316,17 @@ def td_uncertainty(
     adiabatic_rise_k: float,
     time_s: float = DAY,
     phi: float = 1.0,
+    rise_stderr_k: float = 0.0,
+    dof: int | None = None,
+    level: float = 0.95,
 ) -> Result:
-    """Standard uncertainty of a simulated TD from the fit covariance (delta method).
+    """Standard uncertainty and band of a simulated TD from the parameter covariance.
 
-    Equation: σ_TD² = gᵀ·C·g with g_i = ∂TD/∂p_i = −(∂ln TMR/∂p_i)/(∂ln TMR/∂T₀) at TD
-    (implicit function theorem), derivatives by central differences (±σ_i/2, ±0.05 K).
+    Equation: σ_TD² = gᵀ·C·g + (∂TD/∂ΔT_ad·σ_ΔT)² with g_i = ∂TD/∂p_i =
+    −(∂ln TMR/∂p_i)/(∂ln TMR/∂T₀) at TD (implicit function theorem), derivatives by
+    central differences (±σ_i/2, ±0.05 K); the full C carries the strong E–ln k
+    correlation. Band: TD ± k·σ_TD with k the two-sided quantile of Student's t with
+    ``dof`` degrees of freedom (of the normal without).
 
     Parameters
     ----------
@@ -329,7 +335,8 @@ def td_uncertainty(
     parameters : sequence
         Fitted parameters.
     covariance : array_like
-        Their covariance matrix.
+        Their full covariance matrix (the fit's plus the scans', see
+        :func:`calcs.kinetic_fit.scan_jackknife_covariance`).
     reference_temperature_k : float
         T_ref [K].
     adiabatic_rise_k : float
@@ -338,14 +345,21 @@ def td_uncertainty(
         Target TMRad [s].
     phi : float
         φ [-].
+    rise_stderr_k : float
+        Standard uncertainty of ΔT_ad [K] (of the measured energy over c_p).
+    dof : int or None
+        Degrees of freedom of the covariance (scans − 1), None for the normal.
+    level : float
+        Coverage of the band [-].
 
     Returns
     -------
     Result
-        σ_TD [K]; parameters: TD [K] and the 95 % band (TD ± 1.96σ).
+        σ_TD [K]; parameters: TD [K], the band [K], its level and coverage factor.
 
-    Validity: linearisation about the fit; the fit's σ are a lower bound (see
-    :func:`calcs.autocatalytic.fit_rate_model`).
+    Validity: linearisation about the fit; bias of the analysis (integration limits,
+    baseline) is not in σ: for autocatalytic scans whose induction heat is within the
+    noise it lowers TD (the safe side).
 
     Examples
     --------
@@ -356,7 +370,7 @@ def td_uncertainty(
 
     References
     ----------
-    JCGM 100:2008 (GUM), law of propagation of uncertainty.
+    JCGM 100:2008 (GUM), law of propagation of uncertainty and Student's t.
     """
     p = np.asarray(parameters, float)
     c = np.asarray(covariance, float)
@@ -365,8 +379,8 @@ def td_uncertainty(
         return Result(None, "K", "adiabatic_sim.td_uncertainty", ("no TD",))
     _, t_ref, rise = _inputs(model, p, reference_temperature_k, adiabatic_rise_k, phi)
 
-    def ln_tmr(q, t0):
-        return math.log(max(_tmr(model, list(q), t_ref, t0, rise)[0], 1e-300))
+    def ln_tmr(q, t0, dt=rise):
+        return math.log(max(_tmr(model, list(q), t_ref, t0, dt)[0], 1e-300))
 
     d_t = (ln_tmr(p, td + 0.05) - ln_tmr(p, td - 0.05)) / 0.1
     g = np.zeros(len(p))
@@ -377,12 +391,25 @@ def td_uncertainty(
         hi[i] += s / 2
         lo[i] -= s / 2
         g[i] = -(ln_tmr(hi, td) - ln_tmr(lo, td)) / s / d_t
-    sigma = float(math.sqrt(max(g @ c @ g, 0.0)))
+    var = float(g @ c @ g)
+    su = float(rise_stderr_k) / phi
+    if su > 0:
+        g_rise = -(ln_tmr(p, td, rise + su / 2) - ln_tmr(p, td, rise - su / 2)) / su / d_t
+        var += (g_rise * su) ** 2
+    sigma = float(math.sqrt(max(var, 0.0)))
+    q = 0.5 + level / 2
+    factor = float(stats.t.ppf(q, dof) if dof else stats.norm.ppf(q))
     return Result(
         sigma,
         "K",
         "adiabatic_sim.td_uncertainty.delta_method",
         (),
-        {"td_k": td, "band_k": [td - 1.96 * sigma, td + 1.96 * sigma]},
+        {
+            "td_k": td,
+            "band_k": [td - factor * sigma, td + factor * sigma],
+            "band_level": level,
+            "coverage_factor": factor,
+            "degrees_of_freedom": dof,
+        },
         ("gum2008",),
     )

@@ -214,3 +214,56 @@ def fit_rate_model(curves, model: str, alpha_range=(0.02, 0.98)) -> ModelFit:
         (float(t.min()), float(t.max())),
         tuple(warnings),
     )
+
+
+def scan_jackknife_covariance(curves, fit: ModelFit, alpha_range=(0.02, 0.98)) -> np.ndarray:
+    """Covariance of the parameters from leaving out one scan at a time (jackknife).
+
+    Equation: θ₍ᵢ₎ = fit without scan i, its ln k_ref moved to the full fit's T_ref
+    (ln k_ref + (E/R)(1/T_ref,i − 1/T_ref)); C_J = (n − 1)/n · Σ (θ₍ᵢ₎ − θ̄)(θ₍ᵢ₎ − θ̄)ᵀ.
+
+    Parameters
+    ----------
+    curves : sequence
+        Conversion curves (calcs.dsc.ConversionCurve) of the fit, 3 or more.
+    fit : ModelFit
+        The fit to all of them.
+    alpha_range : tuple
+        As in :func:`fit_rate_model` [-].
+
+    Returns
+    -------
+    numpy.ndarray
+        C_J in the fitted coordinates (zeros with fewer than 3 scans).
+
+    Validity: what differs from scan to scan (baseline, integration limits, the energy
+    each scan is normalised by, sample and crucible) is what the residuals of one fit do
+    not show: neighbouring points of a scan are not independent, so s²(JᵀJ)⁻¹ alone is
+    a lower bound. Add C_J to it and use Student's t with n − 1 degrees of freedom.
+
+    Examples
+    --------
+    >>> from calcs.dsc import ConversionCurve
+    >>> from calcs.rate_models import simulate_scan
+    >>> p = (120e3, math.log(1e12) - 120e3 / (R * 440.0), 1.0)
+    >>> cs = [ConversionCurve(b, *simulate_scan("nth_order", p, 440.0, b, 350.0, 520.0))
+    ...       for b in (1 / 60, 2 / 60, 5 / 60)]
+    >>> bool(np.sqrt(scan_jackknife_covariance(cs, fit_rate_model(cs, "nth_order"))[0, 0]) < 50)
+    True
+
+    References
+    ----------
+    Efron & Tibshirani 1993 (the jackknife estimate of covariance).
+    """
+    n = len(curves)
+    k = len(fit.parameters)
+    if n < 3:
+        return np.zeros((k, k))
+    thetas = []
+    for i in range(n):
+        part = fit_rate_model(list(curves[:i]) + list(curves[i + 1 :]), fit.model, alpha_range)
+        th = np.array(part.parameters, float)
+        th[1] += th[0] / R * (1.0 / part.reference_temperature_k - 1.0 / fit.reference_temperature_k)
+        thetas.append(th)
+    d = np.array(thetas) - np.mean(thetas, axis=0)
+    return (n - 1) / n * d.T @ d

@@ -81,6 +81,10 @@ class DecompositionKinetics:
     covariance: tuple[tuple[float, ...], ...] | None = None
     lowest_measured_k: float | None = None
     files_sha256: tuple[str, ...] = ()
+    # scans − 1 when the covariance includes the scan-to-scan jackknife; the standard
+    # uncertainty of the mean decomposition energy [J/kg]
+    degrees_of_freedom: int | None = None
+    energy_stderr_j_per_kg: float = 0.0
 
 
 @dataclass(frozen=True)

@@ -10,6 +10,8 @@ at 3 or more heating rates the kinetics are fitted (`calcs.kinetic_fit`), chosen
 
 from __future__ import annotations
 
+import dataclasses
+
 import numpy as np
 from django.core.exceptions import ValidationError
 from django.db import transaction
@@ -25,7 +27,7 @@ from calcs.autocatalytic import autocatalysis_screen, choose_model
 from calcs.dsc import analyse_scan
 from calcs.errors import CalcInputError
 from calcs.isoconversional_profile import e_alpha
-from calcs.kinetic_fit import fit_rate_model
+from calcs.kinetic_fit import fit_rate_model, scan_jackknife_covariance
 from calcs.result import json_safe
 from hazards.models import DecompositionCurve, DecompositionTest
 from hazards.services.curves import parse_curve
@@ -227,15 +229,24 @@ def derive_kinetics(curves) -> tuple[dict, dict]:
     fits = [fit_rate_model(conv, m) for m in ("nth_order", "autocatalytic")]
     chosen, evidence = choose_model(fits)
     screen = autocatalysis_screen(conv, fits, profiles["friedman"])
+    # the chosen model's covariance: the fit's (a lower bound: points of a scan are not
+    # independent) plus the scan-to-scan jackknife; the report's stderr follow it
+    chosen = dataclasses.replace(
+        chosen, covariance=chosen.covariance + scan_jackknife_covariance(conv, chosen)
+    )
+    energies = [a.energy_j_per_kg for a in scans]
     kinetics = {
         **base,
         "status": "fitted",
         "model": chosen.model,
         "parameters": [float(x) for x in chosen.parameters],
         "covariance": chosen.covariance.tolist(),
+        "covariance_method": "least squares s²(JᵀJ)⁻¹ + leave-one-scan-out jackknife",
+        "degrees_of_freedom": len(scans) - 1,
+        "energy_stderr_j_per_kg": float(np.std(energies, ddof=1) / np.sqrt(len(energies))),
         "reference_temperature_k": chosen.reference_temperature_k,
         "lowest_measured_k": min(a.first_deviation_k for a in scans),
-        "fits": {f.model: f.report() for f in fits},
+        "fits": {f.model: (chosen if f.model == chosen.model else f).report() for f in fits},
         "choice": evidence,
         "screen": screen,
         "e_alpha": {

@@ -156,7 +156,9 @@ def _kinetics(stored: dict | None):
         covariance=(tuple(tuple(r) for r in cov)
                     if cov and all(x is not None for r in cov for x in r) else None),
         lowest_measured_k=stored.get("lowest_measured_k"),
-        files_sha256=tuple(stored.get("files_sha256") or ()))
+        files_sha256=tuple(stored.get("files_sha256") or ()),
+        degrees_of_freedom=stored.get("degrees_of_freedom"),
+        energy_stderr_j_per_kg=stored.get("energy_stderr_j_per_kg") or 0.0)
 
 
 def case_from_row(step_id: int, step: dict, vessel: dict | None, solvent: dict | None,

@@ -88,6 +88,13 @@ def test_four_scans_give_onset_energy_kinetics_and_simulated_td24_without_typing
     assert snap.parameters["decomposition_curves_sha256"] == k["files_sha256"]
     assert len(k["files_sha256"]) == 4
     assert "td24_band_k" in snap.parameters
+    # a 90 % band from the fit's and the scans' covariance with Student's t, 3 degrees of
+    # freedom (calcs.adiabatic_sim.td_uncertainty; coverage in tests/calcs/test_adiabatic_sim)
+    assert snap.parameters["td24_band_level"] == 0.9
+    lo, hi = snap.parameters["td24_band_k"]
+    assert lo < snap.values["td24_k"] < hi
+    stored = m.DecompositionTest.objects.get(pk=test).kinetics
+    assert stored["degrees_of_freedom"] == 3 and stored["energy_stderr_j_per_kg"] > 0
     # the extrapolation distance below the lowest measured temperature (METHODS.md §12.4)
     assert snap.parameters["td24_extrapolation_k"] >= 0
     assert snap.parameters["lowest_measured_temperature_k"] == k["lowest_measured_temperature_k"]
