@@ -1,5 +1,5 @@
 from hazards.models import identity  # noqa: F401  (identity changes in the trail)
-from hazards.models.indicators import IndicatorSnapshot, PendingRecompute
+from hazards.models.indicators import IndicatorSnapshot, PendingRecompute, ProcessClassCount
 from hazards.models.measurements import (
     BaselineMethod,
     CalorimetryRun,
@@ -33,6 +33,7 @@ __all__ = [
     "MeasurePolicy",
     "MeasureStatus",
     "PendingRecompute",
+    "ProcessClassCount",
     "Process",
     "ReactionStep",
     "ReliefSystem",

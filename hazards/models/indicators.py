@@ -65,3 +65,25 @@ class PendingRecompute(models.Model):
 
     def __str__(self) -> str:
         return f"step {self.step_id} queued at {self.queued_at}"
+
+
+class ProcessClassCount(models.Model):
+    """How many steps of a process have each current class (0: no class assigned).
+
+    Kept by a database trigger on the snapshots (and on a step moving to another process)
+    in the same transaction as the snapshot, so the start page counts classes from a few
+    rows per process instead of every step's snapshot. Derived data, not a record: it is
+    not audited, and `hazards.services.indicators.class_counts_rebuild` recounts it."""
+
+    process = models.ForeignKey("hazards.Process", on_delete=models.CASCADE,
+                                related_name="class_counts")
+    klass = models.PositiveSmallIntegerField()
+    steps = models.IntegerField(default=0)
+
+    class Meta:
+        constraints = [
+            models.UniqueConstraint(fields=["process", "klass"], name="class_count_unique"),
+        ]
+
+    def __str__(self) -> str:
+        return f"process {self.process_id}: {self.steps} steps of class {self.klass or 'none'}"

@@ -312,12 +312,25 @@ def recompute_steps(step_ids: Iterable[int], *, using: str = "default", force: b
             previous[case.step_id] = current["id"] if current is not None else None
             changed[case.step_id] = (current["criticality_class"] if current else None,
                                      snap.criticality_class)
+        if fresh:
+            _lock_class_counts([snap.step_id for snap in fresh], using)
         if retire:
             IndicatorSnapshot.objects.using(using).filter(pk__in=retire).update(is_current=False)
         if fresh:
             IndicatorSnapshot.objects.using(using).bulk_create(fresh)
             _mark_stale_approvals(digests, using, fresh, previous)
     return changed
+
+
+def _lock_class_counts(step_ids: list[int], using: str) -> None:
+    """Take the per-process locks of the class counts (`ProcessClassCount`, kept by a
+    trigger on the snapshots) in process order, before the trigger takes them row by row."""
+    with connections[using].cursor() as cursor:
+        cursor.execute(
+            "SELECT pg_advisory_xact_lock(22, p::integer) FROM (SELECT DISTINCT process_id AS p "
+            "FROM hazards_reactionstep WHERE id = ANY(%s) ORDER BY 1) x",
+            [step_ids],
+        )
 
 
 def _mark_stale_approvals(digests: dict[int, str], using: str, fresh=(), previous=None) -> None:
@@ -358,3 +371,36 @@ def flush_pending(*, using: str = "default") -> dict:
 
 def current_snapshot(step: ReactionStep) -> IndicatorSnapshot | None:
     return IndicatorSnapshot.objects.filter(step=step, is_current=True).first()
+
+
+CLASS_COUNTS_SQL = """
+SELECT s.process_id, coalesce(c.criticality_class, 0) AS klass, count(*) AS steps
+FROM hazards_indicatorsnapshot c JOIN hazards_reactionstep s ON s.id = c.step_id
+WHERE c.is_current GROUP BY 1, 2
+"""
+
+
+def class_counts_rebuild(using: str = "default") -> int:
+    """Recount `ProcessClassCount` from the current snapshots (the trigger keeps it; this
+    repairs it after a restore of part of the tables). Returns the rows that differed."""
+    with transaction.atomic(using=using), connections[using].cursor() as cursor:
+        cursor.execute("LOCK TABLE hazards_processclasscount IN EXCLUSIVE MODE")
+        cursor.execute(
+            f"""
+            WITH truth AS ({CLASS_COUNTS_SQL}),
+            fixed AS (
+                INSERT INTO hazards_processclasscount (process_id, klass, steps)
+                SELECT t.process_id, t.klass, t.steps FROM truth t
+                ON CONFLICT (process_id, klass) DO UPDATE SET steps = EXCLUDED.steps
+                WHERE hazards_processclasscount.steps <> EXCLUDED.steps
+                RETURNING 1),
+            zeroed AS (
+                UPDATE hazards_processclasscount n SET steps = 0
+                WHERE n.steps <> 0 AND NOT EXISTS (
+                    SELECT 1 FROM truth t
+                    WHERE t.process_id = n.process_id AND t.klass = n.klass)
+                RETURNING 1)
+            SELECT (SELECT count(*) FROM fixed) + (SELECT count(*) FROM zeroed)
+            """
+        )
+        return cursor.fetchone()[0]

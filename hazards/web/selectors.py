@@ -5,11 +5,11 @@ from __future__ import annotations
 import datetime as dt
 
 from django.db import connection
-from django.db.models import Count, Exists, F, FilteredRelation, Max, OuterRef, Q, Subquery
+from django.db.models import Exists, F, FilteredRelation, OuterRef, Q, Subquery
 from django.db.models.functions import Coalesce
 
-from hazards.access import processes_of, visible
-from hazards.models import IndicatorSnapshot, Process, ReactionStep
+from hazards.access import is_administrator, processes_of, visible
+from hazards.models import IndicatorSnapshot, Process, ProcessClassCount, ReactionStep
 from hazards.review.models import (
     OPEN_STATES,
     Finding,
@@ -87,26 +87,34 @@ def waiting_for(user) -> dict:
 
 
 def class_counts(user) -> list[dict]:
-    """Steps per class, and processes per the highest class among their steps: two grouped
-    queries over the current snapshots, whatever the number of steps."""
-    current = IndicatorSnapshot.objects.filter(is_current=True)
-    steps = visible(user, current)
-    per_step = dict(steps.values_list("criticality_class").annotate(n=Count("id"))
-                    .order_by())
-    worst = (steps.values("step__process_id").annotate(worst=Max("criticality_class"))
-             .order_by())
-    per_process = _count_by(worst)
-    return [{"klass": value, "count": per_step.get(value, 0),
-             "processes": per_process.get(value, 0), "param": value or "none"}
-            for value in (5, 4, 3, 2, 1, None)]
-
-
-def _count_by(worst) -> dict:
-    """Processes per highest class, counted in SQL over the grouped subquery."""
-    sql, params = worst.query.sql_with_params()
+    """Steps per class, and processes per the highest class among their steps, from the
+    per-process counts the snapshot trigger keeps (`ProcessClassCount`): one grouped query
+    over a few rows per visible process, not over every step's snapshot."""
+    counts = ProcessClassCount.objects.filter(steps__gt=0)
+    if not is_administrator(user):
+        counts = counts.filter(process__in=processes_of(user))
     with connection.cursor() as cursor:
-        cursor.execute(f"SELECT w.worst, count(*) FROM ({sql}) w GROUP BY w.worst", params)
-        return dict(cursor.fetchall())
+        sql, params = counts.values("process_id", "klass", "steps").query.sql_with_params()
+        # Per class: steps and processes whose highest class it is (0: no class assigned;
+        # a process counts as unassigned only when none of its steps has a class).
+        cursor.execute(
+            f"""
+            WITH c AS ({sql}),
+            worst AS (SELECT process_id, max(klass) AS klass FROM c GROUP BY process_id)
+            SELECT k.klass, coalesce(s.steps, 0), coalesce(w.processes, 0)
+            FROM (SELECT DISTINCT klass FROM c) k
+            LEFT JOIN (SELECT klass, sum(steps) AS steps FROM c GROUP BY klass) s
+                 ON s.klass = k.klass
+            LEFT JOIN (SELECT klass, count(*) AS processes FROM worst GROUP BY klass) w
+                 ON w.klass = k.klass
+            """,
+            params,
+        )
+        found = {klass or None: (int(steps), processes)
+                 for klass, steps, processes in cursor.fetchall()}
+    return [{"klass": value, "count": found.get(value, (0, 0))[0],
+             "processes": found.get(value, (0, 0))[1], "param": value or "none"}
+            for value in (5, 4, 3, 2, 1, None)]
 
 
 def stale_approvals(user):

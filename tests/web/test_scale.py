@@ -8,6 +8,7 @@ from collections import Counter
 
 import pytest
 from django.db import connection, transaction
+from django.db.models import F
 
 from hazards.models import IndicatorSnapshot, ReactionStep
 from hazards.review.models import ProcessRole
@@ -44,14 +45,17 @@ def _reference_counts(user):
     return per_step, Counter(worst.values())
 
 
-def test_class_counts_are_two_grouped_queries_that_agree_with_counting_in_python(
+def test_class_counts_are_one_grouped_query_that_agrees_with_counting_in_python(
     people, process, django_assert_max_num_queries
 ):
     _more_processes(people, 6, steps_each=3)
     user = people["reviewer"]
     per_step, per_process = _reference_counts(user)
-    with django_assert_max_num_queries(2):
+    with django_assert_max_num_queries(1) as captured:
         rows = selectors.class_counts(user)
+    # read from the per-process counts, not from every step's snapshot
+    assert "hazards_processclasscount" in captured[0]["sql"]
+    assert "hazards_indicatorsnapshot" not in captured[0]["sql"]
     assert {r["klass"]: r["count"] for r in rows} == {
         k: per_step.get(k, 0) for k in (5, 4, 3, 2, 1, None)
     }
@@ -59,6 +63,65 @@ def test_class_counts_are_two_grouped_queries_that_agree_with_counting_in_python
         k: per_process.get(k, 0) for k in (5, 4, 3, 2, 1, None)
     }
     assert sum(r["count"] for r in selectors.class_counts(people["outsider"])) == 0
+
+
+def _truth() -> dict:
+    from hazards.services.indicators import CLASS_COUNTS_SQL
+
+    with connection.cursor() as cursor:
+        cursor.execute(CLASS_COUNTS_SQL)
+        return {(p, k): n for p, k, n in cursor.fetchall()}
+
+
+def _kept() -> dict:
+    from hazards.models import ProcessClassCount
+
+    return {(c.process_id, c.klass): c.steps
+            for c in ProcessClassCount.objects.filter(steps__gt=0)}
+
+
+def test_the_kept_class_counts_follow_every_change_of_a_current_class():
+    """Snapshots renewed, classes changing, steps deleted and moved, processes deleted,
+    forced recomputes: the counts the trigger keeps equal a recount after each."""
+    from hazards.demo import load_demo
+    from hazards.models import DecompositionTest, Process
+    from hazards.services.indicators import (
+        class_counts_rebuild,
+        flush_pending,
+        recompute_steps,
+    )
+
+    load_demo()  # every class 1-5 and one step without a class (tests/indicators)
+    truth = _truth()
+    assert {k for _, k in truth} == {0, 1, 2, 3, 4, 5} and _kept() == truth
+    before = dict(truth)
+    # a lower onset moves steps to a higher class
+    with transaction.atomic():
+        DecompositionTest.objects.update(onset_temperature_k=F("onset_temperature_k") - 80)
+        flush_pending()
+    assert _truth() != before and _kept() == _truth()
+    steps = list(ReactionStep.objects.order_by("pk"))
+    with transaction.atomic():
+        recompute_steps([s.pk for s in steps], force=True)
+    assert _kept() == _truth()
+    with transaction.atomic():
+        ReactionStep.objects.filter(pk=steps[0].pk).update(process=steps[-1].process,
+                                                           sequence=999)
+        flush_pending()
+    assert _kept() == _truth()
+    steps[1].delete()
+    assert _kept() == _truth()
+    doomed = StepFactory().process  # a process without revisions may be deleted
+    StepFactory(process=doomed, sequence=2)
+    assert _kept() == _truth() and any(p == doomed.pk for p, _ in _kept())
+    Process.objects.filter(pk=doomed.pk).delete()
+    assert _kept() == _truth()
+    assert class_counts_rebuild() == 0  # nothing to repair
+    from hazards.models import ProcessClassCount
+
+    ProcessClassCount.objects.filter(pk=ProcessClassCount.objects.filter(steps__gt=0)
+                                     .values("pk")[:1]).update(steps=99)
+    assert class_counts_rebuild() == 1 and _kept() == _truth()
 
 
 def _page_queries(client, url):
