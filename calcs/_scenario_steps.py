@@ -9,6 +9,7 @@ from typing import Any
 import numpy as np
 
 from calcs import criticality as crit
+from calcs._scenario_barriers import barrier_checks
 from calcs._scenario_edges import _extrapolation, _mtsr_from_entered_accumulation
 from calcs._scenario_kinetics import kinetic_td24, kinetic_tmr_at_mtsr
 from calcs._scenario_vessel import _cooling, _end_pressure, _mtt, _solvent
@@ -75,6 +76,10 @@ def run(s: StepInputs, cfg: AssessmentSettings) -> Assessment:
     _severity_probability(c)
     _cooling(c)
     _end_pressure(c)
+    if s.measures:
+        c.out["barrier_checks"] = tuple(barrier_checks(c))
+        for check in c.out["barrier_checks"]:
+            c.ref(*check["references"])
     for w in unit_slip_warnings(s, c.out):
         c.warn(w)
     return Assessment(**c.out, warnings=tuple(c.warnings), methods=c.methods,

@@ -305,3 +305,49 @@ def time_margin(time_available_s: float, response_time_s: float) -> dict:
         tmr = require_non_negative("time_available_s", time_available_s)
     t = require_positive("response_time_s", response_time_s)
     return {"margin_s": tmr - t, "ratio": tmr / t, "passes": tmr > t}
+
+
+def log_mean_temperature_difference(condensing_temperature_k: float, coolant_inlet_k: float,
+                                    coolant_outlet_k: float) -> float:
+    """Log-mean temperature difference of a condenser: vapour condensing at one temperature.
+
+    Equation: ΔT_lm = (ΔT₁ − ΔT₂)/ln(ΔT₁/ΔT₂), ΔT₁ = T_c − T_in, ΔT₂ = T_c − T_out
+    (ΔT₁ when the coolant does not warm).
+
+    Parameters
+    ----------
+    condensing_temperature_k : float
+        Temperature at which the vapour condenses (MTT for the barrier at MTT) [K].
+    coolant_inlet_k : float
+        Coolant inlet temperature [K].
+    coolant_outlet_k : float
+        Coolant outlet temperature [K], at least the inlet and below the condensing one.
+
+    Returns
+    -------
+    float
+        ΔT_lm [K].
+
+    Validity: isothermal condensation of a pure vapour (no subcooling, no inert gas);
+    counter- and co-current give the same ΔT_lm when one side is isothermal.
+
+    Examples
+    --------
+    >>> round(log_mean_temperature_difference(383.75, 288.15, 298.15), 2)
+    90.51
+
+    References
+    ----------
+    Any heat-transfer text (e.g. Incropera & DeWitt, log-mean temperature difference);
+    METHODS.md §13.1.
+    """
+    tc = require_absolute_temperature("condensing_temperature_k", condensing_temperature_k)
+    tin = require_absolute_temperature("coolant_inlet_k", coolant_inlet_k)
+    tout = require_absolute_temperature("coolant_outlet_k", coolant_outlet_k)
+    if tout < tin:
+        raise CalcInputError("coolant_outlet_k", tout, f"must be at least the inlet {tin:g} K")
+    if tout >= tc:
+        raise CalcInputError("coolant_outlet_k", tout,
+                             f"must be below the condensing temperature {tc:g} K")
+    d1, d2 = tc - tin, tc - tout
+    return d1 if math.isclose(d1, d2) else (d1 - d2) / math.log(d1 / d2)

@@ -88,6 +88,30 @@ class DecompositionKinetics:
 
 
 @dataclass(frozen=True)
+class MeasureInputs:
+    """Design values of one protective measure (SI floats, ``None`` where not entered)."""
+
+    id: int | None
+    kind: str
+    trip_temperature_k: float | None = None
+    response_time_s: float | None = None
+    capacity_w: float | None = None
+    set_pressure_pa: float | None = None  # absolute
+    vent_area_m2: float | None = None
+    discharge_coefficient: float | None = None
+    relief_system: str | None = None  # "vapour" | "gassy" | "hybrid"
+    vessel_volume_m3: float | None = None
+    condenser_ua_w_per_k: float | None = None
+    coolant_inlet_temperature_k: float | None = None
+    coolant_outlet_temperature_k: float | None = None
+    vapour_line_diameter_m: float | None = None
+    latent_heat_j_per_kg: float | None = None
+    vapour_molar_mass_kg_per_mol: float | None = None
+    liquid_density_kg_per_m3: float | None = None
+    synthesis_activation_energy_j_per_mol: float | None = None
+
+
+@dataclass(frozen=True)
 class StepInputs:
     """Inputs of one reaction step, SI floats; ``None`` where unknown."""
 
@@ -125,6 +149,7 @@ class StepInputs:
     non_volatile_declared: bool = False
     initial_mass_fraction: float | None = None  # m_0/m_final of a semi-batch step, (0, 1]
     decomposition_kinetics: DecompositionKinetics | None = None  # fitted from the curves
+    measures: tuple[MeasureInputs, ...] = ()  # protective measures (issue 17), design values
 
 
 _SEVERITY = {"3-level": SEVERITY_3, "4-level": SEVERITY_4}
@@ -155,6 +180,9 @@ class AssessmentSettings:
     # how far below the lowest measured temperature TD24/TMRad may be extrapolated before a
     # warning (common practice, no source)
     max_extrapolation_k: float = 50.0
+    # An emergency measure passes its time check when TMRad is at least this many times its
+    # response time (common practice, no source).
+    minimum_time_ratio: float = 2.0
 
     def severity(self) -> Scale:
         """The severity :class:`Scale` selected."""
@@ -189,6 +217,7 @@ class Assessment:
     cooling_margin: float | None = None
     minimum_dosing_time_s: float | None = None
     end_pressure_pa: float | None = None
+    barrier_checks: tuple[dict, ...] = ()  # only steps with measures carry them
     warnings: tuple[str, ...] = ()
     methods: dict[str, str] = field(default_factory=dict)
     parameters: dict[str, Any] = field(default_factory=dict)
@@ -196,7 +225,11 @@ class Assessment:
 
     def to_dict(self) -> dict[str, Any]:
         """JSON-safe dict of every field (tuples as lists, NaN/inf as ``None``)."""
-        return {f.name: json_safe(getattr(self, f.name)) for f in fields(self)}
+        data = {f.name: json_safe(getattr(self, f.name)) for f in fields(self)}
+        if not data["barrier_checks"]:
+            # steps without measures keep the snapshot shape they always had
+            del data["barrier_checks"]
+        return data
 
 
 def assess_step(inputs: StepInputs, *, settings: AssessmentSettings | None = None) -> Assessment:

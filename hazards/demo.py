@@ -18,6 +18,7 @@ from django.contrib.auth.models import Group, Permission
 from django.db import transaction
 
 from hazards.db import data_dir
+from hazards.measures_demo import load_measures_demo
 from hazards.models import (
     CalorimetryRun,
     DecompositionPeak,
@@ -227,6 +228,7 @@ def load_demo() -> dict:
 
     load_whatif_demo()
     flush_pending()
+    load_measures_demo()
     from hazards.review.demo import load_review_demo  # the review lives in its own app
 
     load_review_demo(password)

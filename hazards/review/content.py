@@ -11,6 +11,7 @@ from hazards.models import (
     CalorimetryRun,
     DecompositionTest,
     IndicatorSnapshot,
+    Measure,
     Process,
     ReactionStep,
 )
@@ -63,6 +64,11 @@ def _series(run: CalorimetryRun) -> dict | None:
     return record_fields(series, skip=("columns", "derived"))
 
 
+def _measures(step: ReactionStep) -> dict:
+    measures = [record_fields(m) for m in step.measures.all()]
+    return {"measures": measures} if measures else {}
+
+
 def revision_content(process: Process) -> dict:
     """The canonical content of the process's current state: its fields, and for each step
     its fields, measurements and current indicator snapshot (inputs and values)."""
@@ -79,6 +85,7 @@ def revision_content(process: Process) -> dict:
                 "decomposition_tests",
                 queryset=DecompositionTest._base_manager.order_by("id").prefetch_related("peaks"),
             ),
+            Prefetch("measures", queryset=Measure._base_manager.order_by("id")),
             Prefetch(
                 "snapshots",
                 queryset=IndicatorSnapshot.objects.filter(is_current=True),
@@ -112,6 +119,8 @@ def revision_content(process: Process) -> dict:
                 "indicators": _snapshot(
                     step.current_snapshots[0] if step.current_snapshots else None
                 ),
+                # only steps with measures carry the key: older content keeps its hash
+                **_measures(step),
             }
             for step in steps
         ],

@@ -41,6 +41,13 @@ NOT_UNDER_REVIEW = "Only a lodged or checked revision can be sent back."
 REVISION_IN_PROGRESS = "The process already has a revision in progress."
 NO_STEPS = "A revision needs at least one reaction step with current indicators."
 STALE = "The process changed after this revision was lodged; it has been replaced by a new draft."
+REQUIRED_MEASURES_MISSING = ("Required protective measures are missing or not in the required "
+                             "status; record them, or the approver records a signed risk "
+                             "acceptance for each: {items}")
+NOT_AN_UNMET_REQUIREMENT = ("Only a requirement this revision does not meet can be accepted as "
+                            "a risk.")
+NOT_BEFORE_ENDORSEMENT = "A risk acceptance is recorded on a lodged or checked revision."
+ALREADY_ACCEPTED = "This requirement of the step is already accepted on this revision."
 OPEN_BLOCKING_FINDINGS = "Blocking findings are still open; close them before endorsement."
 REASON_REQUIRED = "A reason is required."
 IN_FORCE_UNTIL_REPLACED = ("An endorsed revision stays in force until a later revision of its "

@@ -13,6 +13,7 @@ import json
 import platform
 from collections.abc import Iterable
 from dataclasses import dataclass
+from dataclasses import fields as dataclass_fields
 from functools import cache
 from importlib import metadata
 
@@ -20,6 +21,7 @@ from django.db import connections, transaction
 from django.dispatch import Signal
 
 import calcs
+from calcs.scenario import MeasureInputs
 from hazards.models import IndicatorSnapshot, ReactionStep
 
 # The libraries whose releases can move an indicator: a changed number can be traced to a
@@ -102,11 +104,18 @@ SELECT now(),
        (SELECT row_to_json(x) FROM (
             SELECT c.id, c.inputs_hash, c.calcs_version, c.criticality_class
             FROM hazards_indicatorsnapshot c WHERE c.step_id = s.id AND c.is_current) x)
-           AS current
+           AS current,
+       (SELECT coalesce(json_agg(row_to_json(x) ORDER BY x.id), '[]'::json) FROM (
+            SELECT m.id, m.kind, {measure_columns}
+            FROM hazards_measure m WHERE m.step_id = s.id) x) AS measures
 FROM hazards_reactionstep s
 WHERE s.id = ANY(%s)
 ORDER BY s.id
 """
+
+# The design values of a measure that its barrier checks read (calcs.scenario.MeasureInputs).
+MEASURE_FIELDS = tuple(f.name for f in dataclass_fields(MeasureInputs) if f.name not in ("id", "kind"))
+_LOAD_SQL = _LOAD_SQL.replace("{measure_columns}", ", ".join(f"m.{n}" for n in MEASURE_FIELDS))
 
 _STEP_FIELDS = ("operation_mode", "process_temperature_k", "reaction_mass_kg",
                 "specific_heat_capacity_j_per_kg_k", "system", "operating_pressure_pa",
@@ -161,8 +170,20 @@ def _kinetics(stored: dict | None):
         energy_stderr_j_per_kg=stored.get("energy_stderr_j_per_kg") or 0.0)
 
 
+def _measures(rows: list[dict] | None) -> tuple[list[dict], tuple]:
+    """The measures' design values as the case's inputs (only those entered) and as calcs
+    inputs; a relief's kind of system counts only when set."""
+    inputs, measures = [], []
+    for row in rows or []:
+        values = {name: row[name] for name in MEASURE_FIELDS if row.get(name) not in (None, "")}
+        inputs.append({"id": row["id"], "kind": row["kind"], **values})
+        measures.append(MeasureInputs(id=row["id"], kind=row["kind"], **values))
+    return inputs, tuple(measures)
+
+
 def case_from_row(step_id: int, step: dict, vessel: dict | None, solvent: dict | None,
-                  run: dict | None, test: dict | None, current: dict | None) -> StepCase:
+                  run: dict | None, test: dict | None, current: dict | None,
+                  measures: list[dict] | None = None) -> StepCase:
     """Assemble one step's cooling-failure scenario from the rows `load_cases` read."""
     from calcs import scenario
 
@@ -193,7 +214,9 @@ def case_from_row(step_id: int, step: dict, vessel: dict | None, solvent: dict |
             feed_mass_kg=run["series_feed_mass_kg"],
         )
     kinetics = _kinetics(test.get("kinetics"))
+    measure_inputs, measure_cases = _measures(measures)
     scenario_inputs = scenario.StepInputs(
+        measures=measure_cases,
         **fields,
         decomposition_kinetics=kinetics,
         solvent_antoine=scenario.AntoineInputs(**antoine) if antoine else None,
@@ -207,6 +230,8 @@ def case_from_row(step_id: int, step: dict, vessel: dict | None, solvent: dict |
         "solvent_antoine": antoine,
         "series_sha256": run.get("series_sha256"),
         "peak_temperatures": [list(p) for p in peaks],
+        # Only steps with measures carry the key, so the others keep their inputs hash.
+        **({"measures": measure_inputs} if measure_inputs else {}),
         "decomposition_kinetics": None if kinetics is None else {
             "model": kinetics.model, "parameters": list(kinetics.parameters),
             "reference_temperature_k": kinetics.reference_temperature_k,

@@ -33,7 +33,7 @@ from django.db.models import Max
 
 from hazards import trail
 from hazards.access import roles_on
-from hazards.models import CalorimetryRun, DecompositionTest, Process, ReactionStep
+from hazards.models import CalorimetryRun, DecompositionTest, Measure, Process, ReactionStep
 from hazards.review import errors as E
 from hazards.review.content import content_sha256
 from hazards.review.content import revision_content as _content
@@ -50,6 +50,7 @@ from hazards.review.models import (
     Signature,
     Transition,
 )
+from hazards.review.requirements import unmet_requirements
 from hazards.review.signing import (
     Reauthentication,
     compute_seal,
@@ -86,6 +87,8 @@ def _lock_process_tree(process_id: int) -> None:
     list(CalorimetryRun._base_manager.select_for_update().filter(step_id__in=steps)
          .order_by("pk").values_list("pk"))
     list(DecompositionTest._base_manager.select_for_update().filter(step_id__in=steps)
+         .order_by("pk").values_list("pk"))
+    list(Measure._base_manager.select_for_update().filter(step_id__in=steps)
          .order_by("pk").values_list("pk"))
 
 
@@ -215,6 +218,8 @@ def _sign_locked(revision_id, user, meaning, role, needed, to_state, role_error,
         process_id=revision.process_id, kind=FindingKind.BLOCKING, status__in=UNSETTLED_FINDING
     ).exists():
         raise E.TransitionRefused(E.OPEN_BLOCKING_FINDINGS)
+    if meaning == Meaning.APPROVED:
+        refuse_unmet_measures(revision)
 
     signed_at = db_clock()
     if fields:
@@ -245,6 +250,20 @@ def _sign_locked(revision_id, user, meaning, role, needed, to_state, role_error,
                 approved_inputs_hash=indicators.get("inputs_hash", ""), needs_review=False
             )
     return signature
+
+
+def refuse_unmet_measures(revision: ProcessRevision) -> None:
+    """Refuse an endorsement while a required measure is missing or not in its status,
+    unless a risk acceptance signed on this revision covers it."""
+    site_id = Process._base_manager.filter(pk=revision.process_id).values_list(
+        "site_id", flat=True).get()
+    open_items = [u for u in unmet_requirements(content=revision.content, site_id=site_id,
+                                                revision_id=revision.pk)
+                  if u["accepted"] is None]
+    if open_items:
+        items = "; ".join(f"step {u['step_name'] or u['step']}: {u['text']} ({u['reason']})"
+                          for u in open_items)
+        raise E.TransitionRefused(E.REQUIRED_MEASURES_MISSING.format(items=items))
 
 
 def revision_submit(*, revision, user, password, request, reason: str = "") -> Signature:
