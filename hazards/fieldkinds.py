@@ -44,6 +44,13 @@ QUANTITY_FIELDS: dict[str, dict[str, str]] = {
         "peak_temperature_k": "temperature",
     },
     "calorimetryseries": {"initial_mass_kg": "mass", "feed_mass_kg": "mass"},
+    "decompositioncurve": {
+        "sample_mass_kg": "mass",
+        "phi_factor": "phi_factor",
+        "free_volume_m3": "volume",
+        "limit_low_k": "temperature",
+        "limit_high_k": "temperature",
+    },
 }
 
 

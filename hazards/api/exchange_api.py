@@ -13,6 +13,7 @@ from hazards.api.serializers import IndicatorsSerializer
 from hazards.models import (
     CalorimetryRun,
     CalorimetrySeries,
+    DecompositionCurve,
     DecompositionPeak,
     DecompositionTest,
     ReactionStep,
@@ -25,8 +26,9 @@ from hazards.services import exchange
 
 EXPORT_DOC = f"""The whole process as one JSON document (format `{exchange.FORMAT}`, version
 {exchange.VERSION}): site, process, steps with their calorimetry runs (and series, the
-original file as base64 with its SHA-256), decomposition tests (and DSC peaks), the vessels
-and solvents the steps use, and each step's current indicators. Quantities are
+original file as base64 with its SHA-256), decomposition tests (and DSC peaks, and their
+measured curves: original file as base64 with its SHA-256, analysed again on import), the
+vessels and solvents the steps use, and each step's current indicators. Quantities are
 `{{"value": v, "unit": u}}` with `u` the SI unit of the quantity's kind, so a round trip is
 exact. `indicators.portable_inputs_hash` is the inputs hash with record ids blanked: an
 import of this document gives the same value."""
@@ -104,8 +106,18 @@ ExchangeRun = _doc_serializer(CalorimetryRun, "ExchangeCalorimetryRun", {
     "series": ExchangeSeries(allow_null=True, required=False),
 })
 ExchangePeak = _doc_serializer(DecompositionPeak, "ExchangePeak")
+ExchangeCurve = _doc_serializer(DecompositionCurve, "ExchangeDecompositionCurve", {
+    "file_name": serializers.CharField(),
+    "sha256": serializers.CharField(),
+    "original_base64": serializers.CharField(help_text="The curve file's bytes; on import "
+                                             "checked against sha256 and analysed again."),
+}, required=("sample_mass",))
 ExchangeTest = _doc_serializer(DecompositionTest, "ExchangeDecompositionTest", {
     "peaks": ExchangePeak(many=True, required=False),
+    "curves": ExchangeCurve(many=True, required=False),
+    "activation_energy_from_curves": serializers.BooleanField(
+        required=False, help_text="True when the test's E was derived from its adiabatic "
+        "runs (derived again on import), not typed."),
 })
 ExchangeStep = _doc_serializer(ReactionStep, "ExchangeStep", {
     "vessel": serializers.CharField(allow_null=True, required=False, help_text="Vessel tag."),

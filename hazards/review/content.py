@@ -69,6 +69,22 @@ def _measures(step: ReactionStep) -> dict:
     return {"measures": measures} if measures else {}
 
 
+def _curves(test: DecompositionTest) -> dict:
+    curves = sorted(test.curves.all(), key=lambda c: c.pk)
+    if not curves:
+        return {}
+    return {"curves": [record_fields(c, skip=("columns", "derived")) | {"derived": _derived(c)}
+                       for c in curves]}
+
+
+def _derived(curve) -> dict:
+    """What a curve yields, without the chart points of its φ-corrected curve."""
+    out = dict(curve.derived)
+    if out.get("corrected"):
+        out["corrected"] = {k: v for k, v in out["corrected"].items() if k != "curve"}
+    return out
+
+
 def revision_content(process: Process) -> dict:
     """The canonical content of the process's current state: its fields, and for each step
     its fields, measurements and current indicator snapshot (inputs and values)."""
@@ -83,7 +99,9 @@ def revision_content(process: Process) -> dict:
             ),
             Prefetch(
                 "decomposition_tests",
-                queryset=DecompositionTest._base_manager.order_by("id").prefetch_related("peaks"),
+                queryset=DecompositionTest._base_manager.order_by("id").prefetch_related(
+                    "peaks", "curves"
+                ),
             ),
             Prefetch("measures", queryset=Measure._base_manager.order_by("id")),
             Prefetch(
@@ -113,6 +131,10 @@ def revision_content(process: Process) -> dict:
                             record_fields(p)
                             for p in sorted(test.peaks.all(), key=lambda p: p.pk)
                         ],
+                        # the measured curves by the SHA-256 of their bytes and the analysis
+                        # settings (the test's kinetics above names the model and parameters);
+                        # only where a test has curves, so other content is unchanged
+                        **_curves(test),
                     }
                     for test in step.decomposition_tests.all()
                 ],

@@ -1,7 +1,8 @@
 """A whole process as one JSON document, and back (format `exoledger-process`, version 1).
 
 Export: the site, the process, its steps with their calorimetry runs (and series: original
-file as base64 with its SHA-256, SI columns), decomposition tests (and DSC peaks), the
+file as base64 with its SHA-256, SI columns), decomposition tests (and DSC peaks, and
+measured curves: original file as base64 with its SHA-256 and the analysis settings), the
 vessels and solvents the steps use, and each step's current indicator snapshot (for
 information: the import recomputes them). Every quantity is `{"value": v, "unit": u}` with
 `u` the SI unit of its kind (`kelvin`, `pascal`, `J/kg` …), so that a round trip gives the
@@ -12,6 +13,10 @@ site (by code) that already exists is reused when every field is identical and r
 otherwise; missing ones are created. The process must be new at its site. Review state
 (`needs_review`, approvals) is not imported. Problems come back as one list of
 `{field, value, rule, code}` with `field` the path in the document (`steps.0.name`).
+
+A curve is imported from its bytes (checked against its SHA-256) through the same
+`curve_attach` as an upload, so the test's onset, energy and kinetics are derived again
+rather than trusted from the document.
 
 The imported steps' `inputs_hash` equals the exported one except for the record ids in the
 `basis` block; `portable_inputs_hash` (ids blanked) is equal, and is in every export.
@@ -32,6 +37,7 @@ from hazards.fieldkinds import kinds_for
 from hazards.models import (
     CalorimetryRun,
     CalorimetrySeries,
+    DecompositionCurve,
     DecompositionPeak,
     DecompositionTest,
     Process,
@@ -41,15 +47,17 @@ from hazards.models import (
     Vessel,
 )
 from hazards.quantities import SPECS, QuantityError, parse_quantity
+from hazards.services.curves_store import curve_attach
 from hazards.services.indicators import canonical_json, sha256_hex
 from hazards.services.series import MAX_ROWS
+from hazards.services.series_store import SeriesRejected
 
 FORMAT, VERSION = "exoledger-process", 1
 CAUTION = ("These records support, and do not replace, a qualified assessment; local codes, "
            "company standards and licensed practice prevail.")
 SKIP = {"id", "created_at", "updated_at", "version", "needs_review", "approved_inputs_hash",
         "raw_file", "original", "sha256", "data", "derived", "columns", "file_name", "owner",
-        "kinetics"}  # derived from decomposition curves, which are not exchanged yet
+        "kinetics"}  # derived again on import from the exchanged decomposition curves
 SUFFIXES = ("_j_per_kg_k", "_w_per_m2_k", "_j_per_kg", "_w_per_kg", "_mol_per_kg", "_k_per_s",
             "_j_per_mol", "_m3", "_m2", "_kg", "_pa", "_k", "_s")
 
@@ -114,11 +122,27 @@ def _series(run) -> dict | None:
             "columns": series.columns, "data": series.data}
 
 
+def _curve(curve) -> dict:
+    return {**_dump(curve), "file_name": curve.file_name, "sha256": curve.sha256,
+            "original_base64": base64.b64encode(bytes(curve.original)).decode("ascii")}
+
+
+def _test(test) -> dict:
+    out = {**_dump(test), "peaks": [_dump(p) for p in test.peaks.all()]}
+    curves = list(test.curves.all())
+    if curves:
+        out["curves"] = [_curve(c) for c in curves]
+        out["activation_energy_from_curves"] = (
+            (test.kinetics or {}).get("activation_energy_source") == "curve")
+    return out
+
+
 def export_process(process: Process) -> dict:
     """The exchange document of a process (reads a fixed number of queries)."""
     steps = list(
         ReactionStep.objects.filter(process=process).select_related("vessel", "solvent")
-        .prefetch_related("calorimetry_runs__series", "decomposition_tests__peaks", "snapshots")
+        .prefetch_related("calorimetry_runs__series", "decomposition_tests__peaks",
+                          "decomposition_tests__curves", "snapshots")
         .order_by("sequence")
     )
     from hazards.api.serializers import indicators_payload
@@ -138,8 +162,7 @@ def export_process(process: Process) -> dict:
             "needs_review": step.needs_review,
             "calorimetry_runs": [{**_dump(r), "series": _series(r)}
                                  for r in step.calorimetry_runs.all()],
-            "decomposition_tests": [{**_dump(t), "peaks": [_dump(p) for p in t.peaks.all()]}
-                                    for t in step.decomposition_tests.all()],
+            "decomposition_tests": [_test(t) for t in step.decomposition_tests.all()],
             "indicators": indicators,
         })
     site = process.site
@@ -330,17 +353,59 @@ def _import_step(reader, process, doc, path, vessels, solvents) -> None:
     for i, raw in enumerate(reader.items(doc, "decomposition_tests", path)):
         where = f"{path}decomposition_tests.{i}."
         test_doc = reader.obj(raw, where.rstrip("."))
-        test = DecompositionTest(step=step, **reader.fields(DecompositionTest, test_doc, where,
-                                                            {"peaks"}))
+        test = DecompositionTest(step=step, **reader.fields(
+            DecompositionTest, test_doc, where,
+            {"peaks", "curves", "activation_energy_from_curves"}))
+        if test_doc.get("curves") and test_doc.get("activation_energy_from_curves") is True:
+            test.activation_energy_j_per_mol = None  # derived again from the runs
         if not reader.clean(test, where, exclude=["step"]) or reader.errors:
             continue
         test.save()
+        for j, curve_raw in enumerate(reader.items(test_doc, "curves", where)):
+            at = f"{where}curves.{j}."
+            _import_curve(reader, test, reader.obj(curve_raw, at.rstrip(".")), at)
         for j, peak_raw in enumerate(reader.items(test_doc, "peaks", where)):
             at = f"{where}peaks.{j}."
             peak = DecompositionPeak(test=test, **reader.fields(
                 DecompositionPeak, reader.obj(peak_raw, at.rstrip(".")), at))
             if reader.clean(peak, at, exclude=["test"]) and not reader.errors:
                 peak.save()
+
+
+def _import_curve(reader, test, doc, path) -> None:
+    values = reader.fields(DecompositionCurve, doc, path,
+                           {"file_name", "sha256", "original_base64"})
+    try:
+        original = base64.b64decode(doc.get("original_base64") or "", validate=True)
+    except (binascii.Error, ValueError, TypeError):
+        reader.fail(f"{path}original_base64", None, "must be base64", "invalid")
+        return
+    if hashlib.sha256(original).hexdigest() != doc.get("sha256"):
+        reader.fail(f"{path}sha256", doc.get("sha256"),
+                    "must be the SHA-256 of the original file", "hash_mismatch")
+        return
+    if values.get("sample_mass_kg") is None:
+        reader.fail(f"{path}sample_mass", None, "is required", "required")
+    if reader.errors:
+        return
+    low, high = values.get("limit_low_k"), values.get("limit_high_k")
+    try:
+        curve_attach(
+            test=test,
+            file_name=str(doc.get("file_name") or "curve.csv"),
+            raw=original,
+            sample_mass_kg=values["sample_mass_kg"],
+            exotherm_positive=values.get("exotherm_positive", True),
+            phi_factor=values.get("phi_factor"),
+            free_volume_m3=values.get("free_volume_m3"),
+            baseline=values.get("baseline") or "sigmoidal",
+            limits_k=(low, high) if low is not None and high is not None else None,
+        )
+    except SeriesRejected as exc:
+        for p in exc.problems:
+            where = f"row {p.row}, column {p.column}: " if p.row else ""
+            reader.fail(f"{path}original_base64", p.value, f"{where}{p.rule}"[:300], p.code)
+    test.refresh_from_db()
 
 
 def _import_series(reader, run, doc, path) -> None:
