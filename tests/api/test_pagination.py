@@ -130,3 +130,58 @@ def test_a_keyset_page_reads_the_index_of_its_ordering_without_sorting(steps, or
     plan = _plan(*page_qs.query.sql_with_params())
     assert index in plan, plan
     assert "Sort" not in plan, plan
+
+
+def _list_views():
+    """(path, view class) of every API list operation (a view answering GET with a list)."""
+    from django.urls import get_resolver
+
+    found = []
+
+    def walk(patterns, prefix=""):
+        for entry in patterns:
+            if hasattr(entry, "url_patterns"):
+                walk(entry.url_patterns, prefix + str(entry.pattern))
+                continue
+            cls = getattr(entry.callback, "cls", None)
+            actions = getattr(entry.callback, "actions", None) or {}
+            if cls is not None and actions.get("get") == "list":
+                found.append((prefix + str(entry.pattern), cls))
+
+    walk(get_resolver().url_patterns)
+    return found
+
+
+def test_every_api_list_pages_by_key_with_a_bounded_offset():
+    """No list falls back to DRF's plain LimitOffsetPagination (an unbounded OFFSET and a
+    COUNT of the whole table on every page)."""
+    from django.conf import settings
+
+    from hazards.api.pagination import StrictLimitOffsetPagination
+
+    views = _list_views()
+    assert len({cls for _, cls in views}) >= 12, views  # records, review, oversight, dossiers
+    plain = sorted(
+        {path for path, cls in views
+         if cls.pagination_class is None
+         or not issubclass(cls.pagination_class, StrictLimitOffsetPagination)}
+    )
+    assert plain == [], plain
+    assert settings.REST_FRAMEWORK["DEFAULT_PAGINATION_CLASS"] == (
+        "hazards.api.pagination.StrictLimitOffsetPagination")
+
+
+def test_a_list_that_used_the_default_now_gives_a_cursor_and_refuses_a_far_offset(
+    api, admin_user
+):
+    from hazards.review.models import ProcessRole
+
+    for _ in range(3):
+        ProcessRole.objects.create(process=ProcessFactory(), user=admin_user, role="reviewer")
+    first = api.get("/api/v1/process-roles/?limit=2")
+    assert first.status_code == 200, first.content
+    assert "cursor=" in first.json()["next"]
+    second = api.get(first.json()["next"])
+    assert len(first.json()["results"]) + len(second.json()["results"]) >= 3
+    far = api.get(f"/api/v1/process-roles/?offset={MAX_OFFSET + 1}")
+    assert far.status_code == 400 and far.json()["errors"][0]["field"] == "offset"
