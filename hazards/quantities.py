@@ -280,3 +280,57 @@ def size_text(n_bytes: int) -> str:
     mib = n_bytes / 1024**2
     shown = f"{mib:g} MiB" if n_bytes % 1024**2 == 0 else f"{mib:.2f} MiB"
     return f"{shown} ({n_bytes:,} bytes)"
+
+
+# One rule for every number a person reads, on pages, forms, the what-if page and the PDF
+# dossier: DISPLAY_DIGITS significant digits, trailing zeros dropped, plain decimals from
+# 1e-4 up to 1e7 and a power of ten written as a reader writes it (2.39·10¹⁰) beyond.
+# The API carries more (`tidy`, SIGNIFICANT_DIGITS): there a number is data, not text.
+DISPLAY_DIGITS = 4
+_SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
+
+
+def scientific(value: float, digits: int = 3) -> str:
+    """A number with a power of ten as a reader writes it: 2.39·10¹⁰, 10⁻⁵ (no 'e+10')."""
+    if value == 0 or not math.isfinite(value):
+        return f"{value:g}"
+    exponent = math.floor(math.log10(abs(value)))
+    mantissa = round(value / 10**exponent, digits - 1)
+    if abs(mantissa) >= 10:  # 9.996e9 rounds to 10.0·10⁹
+        mantissa, exponent = mantissa / 10, exponent + 1
+    power = "10" + str(exponent).translate(_SUPERSCRIPT)
+    if mantissa == 1:
+        return power
+    if mantissa == -1:
+        return "-" + power
+    return f"{mantissa:.{digits}g}·{power}"
+
+
+def format_number(value, digits: int = DISPLAY_DIGITS) -> str:
+    """The written form of a number (see DISPLAY_DIGITS): 45.23, 0.01235, 1235, 2.39·10¹⁰."""
+    if value is None:
+        return "—"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if not isinstance(value, int | float):
+        return str(value)
+    if isinstance(value, int) and abs(value) < 10**7:
+        return str(value)
+    if not math.isfinite(value):
+        return "not finite"
+    if value == 0:
+        return "0"
+    value = float(f"{value:.{digits}g}")  # rounding may carry into the next power of ten
+    magnitude = math.floor(math.log10(abs(value)))
+    if -4 <= magnitude < 7:
+        text = f"{value:.{max(digits - 1 - magnitude, 0)}f}"
+        return text.rstrip("0").rstrip(".") if "." in text else text
+    return scientific(value, digits)
+
+
+def format_quantity(value, unit: str, digits: int = DISPLAY_DIGITS) -> str:
+    """A number and its unit as people read them: '45.23 °C', '—' when unknown."""
+    if value is None:
+        return "—"
+    return f"{format_number(value, digits)} {unit}".strip()
+

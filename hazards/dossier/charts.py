@@ -29,7 +29,7 @@ from calcs.adiabatic_sim import tmr_line
 from calcs.constants import DAY, HOUR, T_ZERO_C, R
 from calcs.rate_models import RATE_MODELS
 from calcs.tmr import tmr_zero_order_at
-from hazards.dossier.view import scientific
+from hazards.quantities import scientific
 
 FONT_FAMILY = "Exoledger Sans"
 WIDTH_IN, HEIGHT_IN = 3.9, 3.5

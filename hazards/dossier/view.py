@@ -3,10 +3,10 @@
 from __future__ import annotations
 
 import datetime as dt
-import math
 import re
 
 from calcs.constants import T_ZERO_C
+from hazards.quantities import format_number
 
 # SI key -> (label, display unit, SI -> display)
 _C = ("°C", lambda k: k - T_ZERO_C)
@@ -167,44 +167,8 @@ MODE = {"batch": "batch", "semi_batch": "semi-batch"}
 SYSTEM = {"open": "open (vented)", "closed": "closed"}
 
 
-_SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
-
-
-def scientific(value: float, digits: int = 3) -> str:
-    """A number with a power of ten as a reader writes it: 2.39·10¹⁰, 10⁻⁵ (no 'e+10')."""
-    if value == 0 or not math.isfinite(value):
-        return f"{value:g}"
-    exponent = math.floor(math.log10(abs(value)))
-    mantissa = round(value / 10**exponent, digits - 1)
-    if abs(mantissa) >= 10:  # 9.996e9 rounds to 10.0·10⁹
-        mantissa, exponent = mantissa / 10, exponent + 1
-    power = "10" + str(exponent).translate(_SUPERSCRIPT)
-    if mantissa == 1:
-        return power
-    if mantissa == -1:
-        return "-" + power
-    return f"{mantissa:.{digits}g}·{power}"
-
-
 def _number(value) -> str:
-    if isinstance(value, bool):
-        return "yes" if value else "no"
-    if isinstance(value, int):
-        return str(value)
-    if isinstance(value, float):
-        if value == 0:
-            return "0"
-        mag = abs(value)
-        if not math.isfinite(value) or mag >= 1e7 or mag < 1e-4:
-            return scientific(value)
-        if mag >= 1000:
-            return f"{value:,.0f}".replace(",", " ")
-        if mag >= 100:
-            return f"{value:.1f}"
-        if mag >= 1:
-            return f"{value:.2f}"
-        return f"{value:.3g}"
-    return str(value)
+    return format_number(value)  # the pages' rule (hazards.quantities.format_number)
 
 
 def _show(value, conv) -> tuple[str, str]:

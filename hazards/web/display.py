@@ -2,10 +2,8 @@
 
 from __future__ import annotations
 
-import math
-
 from hazards.fieldkinds import kinds_for
-from hazards.quantities import SPECS, from_si
+from hazards.quantities import DISPLAY_DIGITS, SPECS, format_number, from_si
 
 # Units as people read them (the API keeps pint's spelling).
 HUMAN_UNIT = {
@@ -23,26 +21,10 @@ def human_unit(kind: str) -> str:
     return HUMAN_UNIT.get(unit, unit)
 
 
-def number(value, digits: int = 4) -> str:
-    """A float with `digits` significant digits, without an exponent in the usual range."""
-    if value is None:
-        return "—"
-    if isinstance(value, bool):
-        return "yes" if value else "no"
-    if not isinstance(value, int | float):
-        return str(value)
-    if not math.isfinite(value):
-        return "not finite"
-    if value == 0:
-        return "0"
-    magnitude = math.floor(math.log10(abs(value)))
-    if -4 <= magnitude < 7:
-        decimals = max(digits - 1 - magnitude, 0)
-        text = f"{value:.{decimals}f}"
-        if "." in text:
-            text = text.rstrip("0").rstrip(".")
-        return text
-    return f"{value:.{digits - 1}e}"
+def number(value, digits: int = DISPLAY_DIGITS) -> str:
+    """A number as every page, form, the what-if page and the dossier write it
+    (`hazards.quantities.format_number`: one rule)."""
+    return format_number(value, digits)
 
 
 def quantity(si_value, kind: str | None) -> str:

@@ -16,7 +16,13 @@ from django.views.decorators.http import require_POST
 
 from hazards.access import can_edit_process, visible
 from hazards.models import ReactionStep
-from hazards.quantities import QuantityError, parse_quantity
+from hazards.quantities import (
+    DISPLAY_DIGITS,
+    QuantityError,
+    format_number,
+    format_quantity,
+    parse_quantity,
+)
 from hazards.services.records import StaleRecord
 from hazards.whatif import charts, services
 
@@ -43,8 +49,14 @@ def _entered(request, name: str, kind: str, errors: dict):
         return None
 
 
-def _fmt(value, digits=4):
-    return "–" if value is None else f"{value:.{digits}g}"
+def _fmt(value, digits=DISPLAY_DIGITS):
+    """A number as every page writes it (`hazards.quantities.format_number`)."""
+    return "–" if value is None else format_number(value, digits)
+
+
+def _q(value, unit, scale=1.0, offset=0.0):
+    """A value in SI shown in `unit` (value / scale - offset), '–' when unknown."""
+    return "–" if value is None else format_quantity(value / scale - offset, unit)
 
 
 INPUTS = ("dosing_time", "process_temperature", "activation_energy")
@@ -117,7 +129,7 @@ def build_context(request, step) -> dict:
     g = win.grid
     table = []
     for i, temp in enumerate(g.temperatures_k):
-        table.append({"temperature": f"{temp - C:.1f}", "cells": [
+        table.append({"temperature": _fmt(temp - C), "cells": [
             {"cls": int(g.criticality_class[i, j]) or "–", "margin": _fmt(g.cooling_margin[i, j],
                                                                          3),
              "ok": bool(g.safe[i, j])} for j in range(g.dosing_times_s.size)]})
@@ -128,37 +140,35 @@ def build_context(request, step) -> dict:
         "window_img": charts.data_uri(charts.window_svg(win, chosen=point)),
         "profile_img": charts.data_uri(charts.profile_svg(point)),
         "numbers": [
-            ("Dosing time", f"{td / 60:.4g} min"),
-            ("Process temperature", f"{tp - C:.2f} °C"),
-            ("Rate constant k at this temperature", f"{point.rate_constant_per_s * 60:.4g} 1/min"),
-            ("Maximum accumulation a(t_d)", f"{point.max_accumulation:.3f}"),
+            ("Dosing time", _q(td, "min", 60)),
+            ("Process temperature", _q(tp, "°C", offset=C)),
+            ("Rate constant k at this temperature", _q(point.rate_constant_per_s, "1/min",
+                                                       1 / 60)),
+            ("Maximum accumulation a(t_d)", _fmt(point.max_accumulation)),
             ("Accumulation on the mass basis (gives max MTSR)",
-             f"{point.effective_accumulation:.3f}"),
+             _fmt(point.effective_accumulation)),
             ("MTSR (maximum over time)", "–" if point.mtsr_k is None else
-             f"{point.mtsr_k - C:.1f} °C at {point.mtsr_time_s / 60:.3g} min"),
-            ("Peak heat release, plant", "–" if point.peak_heat_release_w is None else
-             f"{point.peak_heat_release_w / 1000:.4g} kW"),
-            ("Cooling capacity", "–" if point.cooling_capacity_w is None else
-             f"{point.cooling_capacity_w / 1000:.4g} kW"),
+             f"{_q(point.mtsr_k, '°C', offset=C)} at {_q(point.mtsr_time_s, 'min', 60)}"),
+            ("Peak heat release, plant", _q(point.peak_heat_release_w, "kW", 1000)),
+            ("Cooling capacity", _q(point.cooling_capacity_w, "kW", 1000)),
             ("Cooling margin", f"{_fmt(point.cooling_margin, 3)} (site minimum "
-             f"{point.minimum_cooling_margin:g})"),
-            ("TMRad at MTSR", "–" if point.tmr_ad_at_mtsr_s is None else
-             f"{point.tmr_ad_at_mtsr_s / 3600:.3g} h"),
-            ("MTT", "–" if point.mtt_k is None else f"{point.mtt_k - C:.1f} °C"),
-            ("TD24", "–" if point.td24_k is None else f"{point.td24_k - C:.1f} °C"),
+             f"{_fmt(point.minimum_cooling_margin)})"),
+            ("TMRad at MTSR", _q(point.tmr_ad_at_mtsr_s, "h", 3600)),
+            ("MTT", _q(point.mtt_k, "°C", offset=C)),
+            ("TD24", _q(point.td24_k, "°C", offset=C)),
             ("Criticality class", point.criticality_class or "not assigned"),
             ("Fastest acceptable dosing time at this temperature (grid)",
-             "none on the grid" if fast != fast else f"{fast / 60:.4g} min"),
+             "none on the grid" if fast != fast else _q(fast, "min", 60)),
         ],
         "table": table, "table_dosing": [f"{t / 60:.0f}" for t in g.dosing_times_s],
         "fit": model.fit,
         "model_line": (
-            f"k = {model.rate_constant_per_s * 60:.4g} 1/min at "
-            f"{model.reference_temperature_k - C:.2f} °C; E_a "
+            f"k = {_q(model.rate_constant_per_s, '1/min', 1 / 60)} at "
+            f"{_q(model.reference_temperature_k, '°C', offset=C)}; E_a "
             + ("not known" if model.activation_energy_j_per_mol is None else
-               f"{model.activation_energy_j_per_mol / 1000:.4g} kJ/mol "
+               f"{_q(model.activation_energy_j_per_mol, 'kJ/mol', 1000)} "
                f"({model.activation_energy_source})")
-            + f"; peak factor {model.peak_scale:.3g}"),
+            + f"; peak factor {_fmt(model.peak_scale, 3)}"),
         "residual_rms": None if model.fit is None else
         float((model.fit.residuals_w ** 2).mean() ** 0.5),
     })

@@ -174,7 +174,8 @@ def test_the_freer_side_is_the_one_without_the_curve():
 
 
 def test_huge_and_tiny_numbers_print_with_powers_of_ten_never_as_e_notation():
-    from hazards.dossier.view import _number, scientific
+    from hazards.dossier.view import _number
+    from hazards.quantities import scientific
 
     # Arithmetic of the notation (common practice, no source).
     assert scientific(2.39e10) == "2.39·10¹⁰"

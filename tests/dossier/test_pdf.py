@@ -104,13 +104,16 @@ def test_the_summary_findings_history_and_references_are_printed(issued_data):
 def test_assumed_parameters_print_with_a_label_and_unit_a_reader_knows(issued_data):
     # The DSC onsets of the test process carry no Ea, so the screening method assumed one;
     # the page gives it in kJ/mol under a label, with the calcs key beside it for tracing.
+    from hazards.quantities import format_number
+
     text = " ".join(page_texts(issued_data["pdf"]))
     step = issued_data["content"]["record"]["steps"][0]
     ea = step["indicators"]["parameters"]["screening_activation_energy_j_per_mol"]
     q = step["indicators"]["parameters"]["screening_heat_release_rate_w_per_kg"]
-    assert (f"Activation energy Ea assumed for the screen {ea / 1000:.2f} kJ/mol "
+    # numbers by the pages' rule (hazards.quantities.format_number): 50 kJ/mol, not 50.00
+    assert (f"Activation energy Ea assumed for the screen {format_number(ea / 1000)} kJ/mol "
             "[screening_activation_energy_j_per_mol]") in text
-    assert (f"Heat-release rate assumed at the onset {q:.2f} W/kg "
+    assert (f"Heat-release rate assumed at the onset {format_number(q)} W/kg "
             "[screening_heat_release_rate_w_per_kg]") in text
     assert "Kind of TD24 screening estimate [td24_label]" in text
 

@@ -130,3 +130,13 @@ def test_with_an_activation_energy_the_temperature_is_free(step, admin_user):
                       {"activation_energy": "70 kJ/mol"}).content.decode()
     assert 'data-tp-fixed="true"' in locked
     assert 'data-tp-fixed="false"' in free
+
+
+def test_the_what_if_figures_are_written_by_the_pages_rule(step, admin_user):
+    """hazards.quantities.format_number (tests/hazards/test_number_format.py): no fixed
+    decimals such as '30.00 °C' or '0.200', no e-notation."""
+    html = browser(admin_user).get(f"/steps/{step.pk}/what-if/fragment/",
+                                   {"dosing_time": "2.5 h"}).content.decode()
+    numbers = re.findall(r"<td>([^<]*)</td>", html) + re.findall(r"<dd>([^<]*)</dd>", html)
+    assert any("150 min" in n for n in numbers), numbers
+    assert not [n for n in numbers if re.search(r"\.\d*0 |\.\d*0$|\de[+-]\d", n)], numbers
