@@ -6,8 +6,8 @@ from django.contrib import admin
 
 from hazards import admin_users  # noqa: F401  (people: no password set by others)
 from hazards import models as m
-from hazards.forms import quantity_formfield
 from hazards.services.indicators import flush_pending
+from hazards.web.quantity_fields import quantity_formfield
 
 
 class RecordAdmin(admin.ModelAdmin):

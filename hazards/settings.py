@@ -98,7 +98,10 @@ TEMPLATES = [
                 "django.contrib.auth.context_processors.auth",
                 "django.contrib.messages.context_processors.messages",
             ],
-            "libraries": {"exo": "hazards.web.tags"},
+            "libraries": {
+                "exo": "hazards.web.tags",
+                "oversight": "hazards.web.oversight_tags",
+            },
         },
     },
 ]
@@ -230,7 +233,7 @@ SPECTACULAR_SETTINGS = {
         "DossierStatusEnum": "hazards.dossier.models.DossierStatus",
         "NotificationKindEnum": "hazards.oversight.models.Kind",
         "FindingKindEnum": "hazards.review.models.FindingKind",
-        "HistoryActionEnum": "hazards.review.serializers.HISTORY_ACTIONS",
+        "HistoryActionEnum": "hazards.api.review_serializers.HISTORY_ACTIONS",
     },
 }
 

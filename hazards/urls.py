@@ -15,9 +15,6 @@ urlpatterns = [
          name="password_reset_confirm"),
     path("reset/done/", auth_views.PasswordResetCompleteView.as_view(),
          name="password_reset_complete"),
-    path("api/v1/", include("hazards.review.urls")),
     path("api/v1/", include("hazards.api.urls")),
-    path("", include("hazards.whatif.urls")),
-    path("", include("hazards.oversight.urls")),
     path("", include("hazards.web.urls")),
 ]

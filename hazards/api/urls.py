@@ -1,11 +1,11 @@
+"""Routes of the API under /api/v1/ (included by hazards.urls): every REST resource."""
+
 from django.urls import include, path
 from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerSplitView
 from rest_framework.routers import DefaultRouter
 
-from hazards.api import views
+from hazards.api import dossier, oversight_urls, review_urls, views, whatif_urls
 from hazards.api.token_views import ApiTokenViewSet, ObtainTokenView
-from hazards.oversight import urls as oversight_urls
-from hazards.whatif import urls as whatif_urls
 
 router = DefaultRouter()
 router.register("sites", views.SiteViewSet, basename="site")
@@ -18,12 +18,13 @@ router.register("solvents", views.SolventViewSet, basename="solvent")
 router.register("tokens", ApiTokenViewSet, basename="apitoken")
 
 urlpatterns = [
+    path("", include(review_urls)),
     path("auth/token/", ObtainTokenView.as_view(), name="api-token"),
     path("schema/", SpectacularAPIView.as_view(), name="api-schema"),
     path("docs/", SpectacularSwaggerSplitView.as_view(url_name="api-schema"), name="api-docs"),
     path("problems/", views.ProblemTypesView.as_view(), name="api-problems"),
-    path("", include("hazards.dossier.api")),
-    path("", include(whatif_urls.api_urlpatterns)),
-    path("", include(oversight_urls.api_urlpatterns)),
+    path("", include(dossier)),
+    path("", include(whatif_urls)),
+    path("", include(oversight_urls)),
     path("", include(router.urls)),
 ]

@@ -20,7 +20,6 @@ from django.db import transaction
 from django.shortcuts import redirect, render
 
 from hazards.dossier.decomposition_charts import scans_chart
-from hazards.forms import QuantityFormField
 from hazards.models import BaselineMethod, DecompositionTest
 from hazards.services import series as parser
 from hazards.services.curves import parse_curve
@@ -28,6 +27,7 @@ from hazards.services.curves_store import analyse_dsc, curve_attach, run_summary
 from hazards.services.records import StaleRecord
 from hazards.services.series_store import SeriesRejected
 from hazards.web import common
+from hazards.web.quantity_fields import QuantityFormField
 from hazards.web.upload import first_rows, header_cells
 
 SESSION_KEY = "exo_pending_curve"

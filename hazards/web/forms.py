@@ -1,10 +1,9 @@
-"""Forms of every record: a value-and-unit input for each quantity (hazards.forms)."""
+"""Forms of every record: a value-and-unit input for each quantity (hazards.web.quantity_fields)."""
 
 from __future__ import annotations
 
 from django import forms
 
-from hazards.forms import quantity_formfield_callback
 from hazards.models import (
     CalorimetryRun,
     DecompositionPeak,
@@ -14,6 +13,7 @@ from hazards.models import (
     Solvent,
     Vessel,
 )
+from hazards.web.quantity_fields import quantity_formfield_callback
 
 REASON_HELP = ("Someone has signed these data: say why they change. The reason goes into the "
                "audit trail with your name and the time.")
@@ -74,8 +74,8 @@ def _readable(prepare):
 
 def humanise(form) -> None:
     """Labels people read, and unit help with examples, for every field of a form."""
-    from hazards.forms import QuantityFormField
     from hazards.web.display import human_unit
+    from hazards.web.quantity_fields import QuantityFormField
 
     for name, field in form.fields.items():
         if name in LABELS:

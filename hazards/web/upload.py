@@ -23,7 +23,6 @@ from django.db import transaction
 from django.shortcuts import redirect, render
 
 from hazards import trail
-from hazards.forms import QuantityFormField
 from hazards.models import CalorimetryRun, CalorimetrySeries, ReactionStep
 from hazards.quantities import size_text
 from hazards.services import series as parser
@@ -38,6 +37,7 @@ from hazards.services.table import open_table
 from hazards.web import common
 from hazards.web.diff import indicator_change_text
 from hazards.web.display import number
+from hazards.web.quantity_fields import QuantityFormField
 from hazards.web.selectors import current_indicators
 
 SESSION_KEY = "exo_pending_series"

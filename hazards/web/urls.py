@@ -2,9 +2,29 @@
 
 from django.urls import path
 
-from hazards.web import audit, auth, curve_upload, edit, lists, review, upload, views
+from hazards.web import (
+    audit,
+    auth,
+    curve_upload,
+    edit,
+    lists,
+    oversight,
+    review,
+    upload,
+    views,
+    whatif,
+)
 
 urlpatterns = [
+    # What-if of a step and the oversight pages (revalidation, change records, inbox).
+    path("steps/<int:pk>/what-if/", whatif.page, name="whatif-page"),
+    path("steps/<int:pk>/what-if/fragment/", whatif.fragment, name="whatif-fragment"),
+    path("steps/<int:pk>/what-if/apply/", whatif.apply, name="whatif-apply"),
+    path("revalidation/", oversight.revalidation_page, name="web-revalidation"),
+    path("changes/", oversight.change_list, name="web-changes"),
+    path("changes/<int:pk>/", oversight.change_detail, name="web-change"),
+    path("notifications/", oversight.inbox, name="web-inbox"),
+    path("notifications/preferences/", oversight.preferences_page, name="web-preferences"),
     path("", views.home, name="home"),
     path("signin/", auth.signin, name="signin"),
     path("signout/", auth.signout, name="signout"),

@@ -13,9 +13,9 @@ import pytest
 from django.db import transaction
 
 from hazards.api.concurrency import content_etag, etag_for
+from hazards.api.review_serializers import FindingSerializer
 from hazards.models import CalorimetryRun, Process, ReactionStep, Vessel
 from hazards.review.models import Finding, ProcessRevision
-from hazards.review.serializers import FindingSerializer
 from tests.conftest import PASSWORD, make_user
 from tests.review.conftest import AUTHOR_PERMS, client_for
 from tests.review.factories import FindingFactory, assessed_process, revision_in

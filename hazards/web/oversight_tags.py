@@ -1,4 +1,5 @@
-"""Template helpers other pages use to show oversight state:
+"""Template helpers other pages use to show oversight state (the `oversight` library,
+registered in settings.TEMPLATES):
 
     {% load oversight %}
     {% revalidation_flag process %}          the overdue / due / open-change banner
@@ -13,6 +14,8 @@ from django import template
 
 from hazards.oversight import revalidation
 from hazards.oversight.dates import OVERDUE, due_state
+from hazards.oversight.services import inbox_of
+from hazards.web.oversight import WINDOWS, chosen_window
 
 register = template.Library()
 
@@ -25,8 +28,6 @@ def revalidation_flag(process, compact=False):
 @register.inclusion_tag("oversight/_start_panel.html", takes_context=True)
 def oversight_start_panel(context):
     request = context["request"]
-    from hazards.oversight.views import WINDOWS, chosen_window
-
     data = revalidation.due_and_overdue(request.user, within_days=chosen_window(request))
     return {**data, "windows": WINDOWS}
 
@@ -44,6 +45,4 @@ def unread_notifications(context) -> int:
     user = context["request"].user
     if not getattr(user, "is_authenticated", False):
         return 0
-    from hazards.oversight.services import inbox_of
-
     return inbox_of(user).filter(read_at__isnull=True).count()

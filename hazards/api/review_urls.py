@@ -3,7 +3,7 @@
 from django.urls import include, path
 from rest_framework.routers import SimpleRouter
 
-from hazards.review import api
+from hazards.api import review as api
 
 router = SimpleRouter()
 router.register("revisions", api.RevisionViewSet, basename="revision")

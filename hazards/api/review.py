@@ -15,13 +15,13 @@ from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from hazards.access import PROCESS_PATHS, REFERENCE_MODELS, change_reason, visible
+from hazards.api import review_serializers as s
 from hazards.api.concurrency import content_etag, require_if_match
 from hazards.api.idempotency import IdempotentPostMixin, idempotent
 from hazards.api.pagination import KeyedHistoryPagination
 from hazards.models import Process
 from hazards.review import errors as E
 from hazards.review import history, selectors
-from hazards.review import serializers as s
 from hazards.review.models import Finding, ProcessRevision, ProcessRole, Signature
 from hazards.review.services import findings as finding_services
 from hazards.review.services import revisions as rev
