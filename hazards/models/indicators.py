@@ -84,6 +84,9 @@ class ProcessClassCount(models.Model):
         constraints = [
             models.UniqueConstraint(fields=["process", "klass"], name="class_count_unique"),
         ]
+        # The start page reads a person's processes' rows from the index alone.
+        indexes = [models.Index(fields=["process"], include=["klass", "steps"],
+                                condition=Q(steps__gt=0), name="class_count_live_idx")]
 
     def __str__(self) -> str:
         return f"process {self.process_id}: {self.steps} steps of class {self.klass or 'none'}"

@@ -98,7 +98,10 @@ class ReactionStep(InputModel):
         ordering = ["process_id", "sequence"]
         # Keyset pages of the API orderings (`?ordering=`) and the lists read these.
         indexes = [models.Index(fields=["name", "id"], name="step_name_idx"),
-                   models.Index(fields=["updated_at", "id"], name="step_updated_idx")]
+                   models.Index(fields=["updated_at", "id"], name="step_updated_idx"),
+                   # The start page's approvals that no longer hold: only flagged steps.
+                   models.Index(fields=["process"], condition=Q(needs_review=True),
+                                name="step_needs_review_idx")]
         constraints = [
             models.UniqueConstraint(
                 fields=["process", "sequence"], name="step_sequence_unique_per_process"

@@ -220,3 +220,16 @@ def test_the_step_page_draws_its_charts_once_per_set_of_inputs(
     step.save()
     client.get(f"/steps/{step.pk}/")
     assert drawn == [1, 1]
+
+
+def test_the_start_page_reads_flagged_steps_and_live_counts_from_their_indexes(people, process):
+    """Approvals that no longer hold: only the flagged steps (was a walk over every visible
+    step); class counts: an index-only read of a person's processes' rows."""
+    _more_processes(people, 2)
+    stale = _plan(selectors.stale_approvals(people["reviewer"])[:50])
+    assert "step_needs_review_idx" in stale, stale
+    from hazards.models import ProcessClassCount
+
+    counts = ProcessClassCount.objects.filter(steps__gt=0, process_id__in=[process.pk])
+    assert "class_count_live_idx" in _plan(counts.values("process_id", "klass", "steps")), (
+        _plan(counts))
