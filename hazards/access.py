@@ -25,6 +25,7 @@ PROCESS_PATHS: dict[str, str] = {
     "hazards.decompositionpeak": "test__step__process",
     "hazards.calorimetryseries": "run__step__process",
     "hazards.indicatorsnapshot": "step__process",
+    "hazards.measure": "step__process",
     "review.processrole": "process",
     "review.processrevision": "process",
     "review.finding": "process",
@@ -142,6 +143,7 @@ _PARENT_FIELDS = {
     "hazards.decompositiontest": ("step", "hazards.reactionstep"),
     "hazards.decompositionpeak": ("test", "hazards.decompositiontest"),
     "hazards.calorimetryseries": ("run", "hazards.calorimetryrun"),
+    "hazards.measure": ("step", "hazards.reactionstep"),
 }
 
 

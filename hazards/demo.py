@@ -121,7 +121,8 @@ def demo_password() -> tuple[str, bool]:
 def _users(password: str) -> None:
     User = get_user_model()
     perms = {
-        "author": ["add_reactionstep", "change_reactionstep", "add_calorimetryrun",
+        "author": ["add_measure", "change_measure", "delete_measure",
+                   "add_reactionstep", "change_reactionstep", "add_calorimetryrun",
                    "change_calorimetryrun", "delete_calorimetryrun", "add_decompositiontest",
                    "change_decompositiontest", "delete_decompositiontest",
                    "add_decompositionpeak", "change_decompositionpeak",

@@ -102,6 +102,19 @@ SPECS: dict[str, QuantitySpec] = {
     "power": QuantitySpec("watt", "W", None, rule=""),
     "temperature_difference": QuantitySpec("kelvin", "K", None, rule=""),
     "duration_h": QuantitySpec("second", "h", 0.0, False, rule=POSITIVE),
+    # Design values of protective measures (issue 17).
+    "length": QuantitySpec("metre", "mm", 0.0, False, rule=POSITIVE, plausible=(1e-4, 100.0)),
+    "density": QuantitySpec("kg/m**3", "kg/m**3", 0.0, False, rule=POSITIVE,
+                            plausible=(1e-2, 3e4)),
+    "thermal_conductance": QuantitySpec("W/K", "kW/K", 0.0, False, rule=POSITIVE,
+                                        plausible=(1e-3, 1e9)),
+    "capacity": QuantitySpec("watt", "kW", 0.0, False, rule=POSITIVE, plausible=(1e-3, 1e10)),
+    "response_time": QuantitySpec("second", "s", 0.0, False, rule=POSITIVE,
+                                  plausible=(1e-3, 1e7)),
+    "discharge_coefficient": QuantitySpec("dimensionless", "dimensionless", 0.0, False, 1.0,
+                                          True, rule="must be above 0 and at most 1"),
+    "activation_energy": QuantitySpec("J/mol", "kJ/mol", 0.0, True, rule=NON_NEGATIVE,
+                                      plausible=(0.0, 1e7)),
 }
 
 # How units are written in the API's canonical output (pint's own spelling).
@@ -111,6 +124,7 @@ DISPLAY = {
     "W/(m**2*K)": "W/(m²·K)",
     "m**3": "m³",
     "m**2": "m²",
+    "kg/m**3": "kg/m³",
     "dimensionless": "",
 }
 

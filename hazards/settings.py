@@ -234,6 +234,10 @@ SPECTACULAR_SETTINGS = {
         "NotificationKindEnum": "hazards.oversight.models.Kind",
         "FindingKindEnum": "hazards.review.models.FindingKind",
         "HistoryActionEnum": "hazards.api.review_serializers.HISTORY_ACTIONS",
+        "MeasureKindEnum": "hazards.models.measures.MeasureKind",
+        "MeasureStatusEnum": "hazards.models.measures.MeasureStatus",
+        "ReliefSystemEnum": "hazards.models.measures.ReliefSystem",
+        "BarrierCheckResultEnum": "hazards.api.serializers.CHECK_RESULTS",
     },
 }
 

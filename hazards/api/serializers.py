@@ -149,6 +149,7 @@ def indicators_payload(snapshot: IndicatorSnapshot | None) -> dict | None:
         td24_below_process_temperature=values.get("td24_below_process_temperature"),
         mtt_at_ambient_pressure=_quantity(values.get("mtt_at_ambient_pressure_k"), "temperature"),
         criticality_class_at_ambient_pressure=values.get("criticality_class_at_ambient_pressure"),
+        barrier_checks=list(values.get("barrier_checks") or []),
         warnings=list(snapshot.warnings),
         methods=dict(snapshot.methods),
         parameters=dict(snapshot.parameters),
@@ -161,8 +162,38 @@ def indicators_payload(snapshot: IndicatorSnapshot | None) -> dict | None:
     return payload
 
 
+CHECK_RESULTS = ["pass", "fail", "unknown"]
+
+
+class CheckNumberSerializer(serializers.Serializer):
+    value = serializers.FloatField(allow_null=True)
+    unit = serializers.CharField(allow_blank=True, help_text="SI unit of the value.")
+
+
+class BarrierCheckSerializer(serializers.Serializer):
+    """One barrier check of a protective measure (issue 17), computed with the indicators."""
+
+    name = serializers.CharField()
+    measure = serializers.IntegerField(allow_null=True, help_text="Id of the measure.")
+    kind = serializers.CharField(help_text="Kind of the measure.")
+    result = serializers.ChoiceField(CHECK_RESULTS, help_text="unknown: an input "
+                                     "is missing (named in `missing`) or the method does not "
+                                     "apply (said in `note`); it never passes on a guess.")
+    passes = serializers.BooleanField(allow_null=True)
+    numbers = serializers.DictField(child=CheckNumberSerializer(), help_text="The check's "
+                                    "inputs and results, SI values with their units.")
+    method = serializers.CharField()
+    references = serializers.ListField(child=serializers.CharField())
+    note = serializers.CharField(allow_blank=True, help_text="Assumptions and cautions; the "
+                                 "relief screening always says a relief specialist confirms it.")
+    missing = serializers.ListField(child=serializers.CharField())
+
+
 class IndicatorsSerializer(serializers.Serializer):
     """The `indicators` object (documentation of `indicators_payload`; read only)."""
+
+    barrier_checks = BarrierCheckSerializer(
+        many=True, help_text="Checks of the step's protective measures (empty without any).")
 
     adiabatic_temperature_rise = QuantityField("temperature_difference", allow_null=True)
     mtsr = QuantityField("temperature", allow_null=True, help_text="Maximum temperature of the "

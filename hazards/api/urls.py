@@ -4,7 +4,7 @@ from django.urls import include, path
 from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerSplitView
 from rest_framework.routers import DefaultRouter
 
-from hazards.api import dossier, oversight_urls, review_urls, views, whatif_urls
+from hazards.api import dossier, measures_api, oversight_urls, review_urls, views, whatif_urls
 from hazards.api.token_views import ApiTokenViewSet, ObtainTokenView
 
 router = DefaultRouter()
@@ -16,6 +16,9 @@ router.register("decomposition-tests", views.DecompositionTestViewSet, basename=
 router.register("vessels", views.VesselViewSet, basename="vessel")
 router.register("solvents", views.SolventViewSet, basename="solvent")
 router.register("tokens", ApiTokenViewSet, basename="apitoken")
+router.register("measures", measures_api.MeasureViewSet, basename="measure")
+router.register("measure-policies", measures_api.MeasurePolicyViewSet,
+                basename="measurepolicy")
 
 urlpatterns = [
     path("", include(review_urls)),

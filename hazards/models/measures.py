@@ -191,6 +191,13 @@ class Measure(InputModel):
                 "An emergency relief with a vent area needs the kind "
                 "of system (vapour, gassy or hybrid)."
             )
+        if self.status == MeasureStatus.PROVEN:
+            if not self.evidence_reference:
+                errors["evidence_reference"] = ("A proven measure needs its evidence: a document "
+                                                "reference and the test date.")
+            if self.test_date is None:
+                errors["test_date"] = ("A proven measure needs its evidence: a document "
+                                       "reference and the test date.")
         if errors:
             raise ValidationError(errors)
 

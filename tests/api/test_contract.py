@@ -325,6 +325,58 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
     as_(outsider).get(curves)  # not theirs: 404
     author_c.post("/api/v1/decomposition-tests/999999/curves/", scan(), format="multipart")
 
+    # Protective measures and the site's measure policy (issue 17).
+    measure_body = {
+        "step": step.pk, "kind": "quench", "acts_on": "quench tank", "owner": "author",
+        "due_date": "2027-03-31", "response_time": "5 min",
+    }
+    m_made = author_c.post("/api/v1/measures/", measure_body, format="json",
+                           HTTP_IDEMPOTENCY_KEY="contract-measure")
+    assert m_made.status_code == 201, m_made.content
+    author_c.post("/api/v1/measures/", measure_body, format="json",
+                  HTTP_IDEMPOTENCY_KEY="contract-measure")  # replay
+    author_c.post("/api/v1/measures/", {**measure_body, "acts_on": "x"}, format="json",
+                  HTTP_IDEMPOTENCY_KEY="contract-measure")  # same key, other body: 422
+    author_c.post("/api/v1/measures/", {**measure_body, "response_time": "-1 s"}, format="json")
+    as_(auditor).post("/api/v1/measures/", measure_body, format="json")  # 403
+    murl = f"/api/v1/measures/{m_made.json()['id']}/"
+    author_c.get("/api/v1/measures/", {"step": step.pk})
+    author_c.get(murl)
+    m_patched = author_c.patch(murl, {"status": "in_place"}, format="json",
+                               HTTP_IF_MATCH=m_made["ETag"])
+    assert m_patched.status_code == 200, m_patched.content
+    author_c.patch(murl, {"status": "proposed"}, format="json")  # 428
+    author_c.patch(murl, {"status": "proposed"}, format="json", HTTP_IF_MATCH=m_made["ETag"])
+    author_c.patch(murl, {"vent_area": "-1 m**2"}, format="json",
+                   HTTP_IF_MATCH=m_patched["ETag"])  # 400
+    m_whole = _copy_for_create(contract, "measures", m_patched.json())
+    m_put = author_c.put(murl, m_whole, format="json", HTTP_IF_MATCH=m_patched["ETag"])
+    assert m_put.status_code == 200, m_put.content
+    author_c.put(murl, m_whole, format="json")  # 428
+    author_c.put(murl, m_whole, format="json", HTTP_IF_MATCH=m_made["ETag"])  # 412
+    author_c.delete(murl)  # 428
+    author_c.delete(murl, HTTP_IF_MATCH=m_made["ETag"])  # 412
+    second = author_c.post("/api/v1/measures/", measure_body, format="json")
+    assert admin.delete(f"/api/v1/measures/{second.json()['id']}/",
+                        HTTP_IF_MATCH=second["ETag"]).status_code == 204
+    p_made = admin.post("/api/v1/measure-policies/", {
+        "site": process.site.code,
+        "requirements": {"3": [{"any_of": ["quench"], "status": "proven"}]},
+    }, format="json", HTTP_IDEMPOTENCY_KEY="contract-policy")
+    assert p_made.status_code == 201, p_made.content
+    purl = f"/api/v1/measure-policies/{p_made.json()['id']}/"
+    admin.get("/api/v1/measure-policies/")
+    admin.get(purl)
+    p_patched = admin.patch(purl, {"reminder_days": 21}, format="json",
+                            HTTP_IF_MATCH=p_made["ETag"])
+    assert p_patched.status_code == 200, p_patched.content
+    admin.patch(purl, {"requirements": {"9": []}}, format="json",
+                HTTP_IF_MATCH=p_patched["ETag"])  # 400
+    p_put = admin.put(purl, _copy_for_create(contract, "measure-policies", p_patched.json()),
+                      format="json", HTTP_IF_MATCH=p_patched["ETag"])
+    assert p_put.status_code == 200, p_put.content
+    as_(author).patch(purl, {"reminder_days": 1}, format="json", HTTP_IF_MATCH=p_put["ETag"])
+
     # Exchange.
     doc = admin.get(f"/api/v1/processes/{process.pk}/export/")
     assert doc.status_code == 200
@@ -613,6 +665,8 @@ def test_every_operation_answers_as_the_schema_says(contract, failures, as_, adm
         "changes": changes[0]["id"],
         "notifications": nid,
         "dossiers": did,
+        "measures": m_made.json()["id"],
+        "measure-policies": p_made.json()["id"],
     }
     csrf = ContractClient(contract, failures, enforce_csrf_checks=True)
     csrf.force_login(admin_user)

@@ -11,7 +11,8 @@ from tests.review.factories import assessed_process
 # What the demo's author group may change (the Django model permissions).
 AUTHOR_PERMS = ("add_reactionstep", "change_reactionstep", "delete_reactionstep",
                 "add_calorimetryrun", "change_calorimetryrun", "add_decompositiontest",
-                "change_decompositiontest", "add_process", "change_process")
+                "change_decompositiontest", "add_process", "change_process", "add_measure",
+                "change_measure", "delete_measure")
 
 
 @pytest.fixture
