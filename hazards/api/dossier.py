@@ -14,7 +14,6 @@ from rest_framework.response import Response
 from rest_framework.routers import SimpleRouter
 from rest_framework.views import APIView
 
-from hazards.access import visible
 from hazards.api.errors import ProblemError
 from hazards.api.idempotency import IdempotentPostMixin
 from hazards.api.pagination import StrictLimitOffsetPagination
@@ -28,6 +27,7 @@ from hazards.dossier.services import (
     dossier_retry,
 )
 from hazards.models import Process
+from hazards.review.access import visible
 
 
 class DossierSerializer(serializers.ModelSerializer):

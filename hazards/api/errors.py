@@ -31,6 +31,7 @@ from django.http import Http404, HttpResponse
 from rest_framework import exceptions
 
 from calcs.errors import CalcInputError
+from hazards.api.transient import mark_transient, transient_database_error
 
 log = logging.getLogger(__name__)
 
@@ -271,8 +272,6 @@ def _problem_for(exc, request) -> tuple[dict, dict]:
         detail = exc.detail if isinstance(exc.detail, str) else ""
         return problem_body(code, str(detail), instance=instance, status=status), headers
     if isinstance(exc, DatabaseError):
-        from hazards.middleware import mark_transient, transient_database_error
-
         # A marked request is run again by the middleware.
         if (mark_transient(request, exc) if request is not None
                 else transient_database_error(exc)):

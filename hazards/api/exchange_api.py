@@ -7,6 +7,7 @@ from drf_spectacular.extensions import OpenApiSerializerFieldExtension
 from rest_framework import permissions, serializers, status
 from rest_framework.response import Response
 
+from hazards.api import exchange
 from hazards.api.errors import ProblemError, summarise
 from hazards.api.idempotency import idempotent
 from hazards.api.serializers import IndicatorsSerializer
@@ -22,7 +23,6 @@ from hazards.models import (
     Vessel,
 )
 from hazards.quantities import SPECS
-from hazards.services import exchange
 
 EXPORT_DOC = f"""The whole process as one JSON document (format `{exchange.FORMAT}`, version
 {exchange.VERSION}): site, process, steps with their calorimetry runs (and series, the

@@ -14,7 +14,6 @@ from django.contrib.auth import get_user_model
 from django.utils import timezone
 from rest_framework import permissions, serializers, viewsets
 
-from hazards.access import visible
 from hazards.api.concurrency import ETagMixin, stale
 from hazards.api.fields import QuantityField
 from hazards.api.filters import StrictBooleanFilter, StrictFilterSet
@@ -33,6 +32,7 @@ from hazards.models import (
     Site,
 )
 from hazards.models.measures import DEFAULT_REQUIREMENTS
+from hazards.review.access import visible
 from hazards.services import measures as svc
 from hazards.services.records import StaleRecord
 

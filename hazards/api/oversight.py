@@ -12,13 +12,13 @@ from rest_framework.exceptions import ValidationError
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
-from hazards.access import is_administrator, processes_of
 from hazards.api import oversight_serializers as s
 from hazards.api.concurrency import content_etag, require_if_match
 from hazards.api.idempotency import IdempotentPostMixin
 from hazards.oversight import revalidation, services
 from hazards.oversight.dates import RETENTION_NOTE
 from hazards.oversight.models import ChangeRecord, Notification
+from hazards.review.access import is_administrator, processes_of
 
 MAX_WINDOW_DAYS = 3660
 

@@ -1,6 +1,6 @@
 """REST resources of the review: revisions and their transitions, signatures, findings,
 roles, and the history and differences people read. Every queryset goes through
-`hazards.access.visible`; every write goes through one service, which checks the role."""
+`hazards.review.access.visible`; every write goes through one service, which checks the role."""
 
 from __future__ import annotations
 
@@ -14,14 +14,15 @@ from rest_framework.exceptions import APIException, NotFound, ValidationError
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
-from hazards.access import PROCESS_PATHS, REFERENCE_MODELS, change_reason, visible
 from hazards.api import review_serializers as s
 from hazards.api.concurrency import content_etag, require_if_match
 from hazards.api.idempotency import IdempotentPostMixin, idempotent
 from hazards.api.pagination import KeyedHistoryPagination
+from hazards.api.permissions import change_reason
 from hazards.models import Process
 from hazards.review import errors as E
 from hazards.review import history, selectors
+from hazards.review.access import PROCESS_PATHS, REFERENCE_MODELS, visible
 from hazards.review.models import Finding, ProcessRevision, ProcessRole, Signature
 from hazards.review.services import findings as finding_services
 from hazards.review.services import revisions as rev

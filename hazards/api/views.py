@@ -16,7 +16,6 @@ from rest_framework.permissions import AllowAny
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
-from hazards.access import ProcessRolePermission, visible
 from hazards.api import curves_api, exchange_api, filters, series_api
 from hazards.api import serializers as s
 from hazards.api.concurrency import ETagMixin, stale
@@ -24,6 +23,7 @@ from hazards.api.errors import PROBLEM_TYPES
 from hazards.api.idempotency import IdempotentPostMixin
 from hazards.api.pagination import SingleQueryValuesMixin, StrictLimitOffsetPagination
 from hazards.api.parsers import LimitedJSONParser, LimitedMultiPartParser
+from hazards.api.permissions import ProcessRolePermission
 from hazards.models import (
     CalorimetryRun,
     DecompositionTest,
@@ -34,6 +34,7 @@ from hazards.models import (
     Solvent,
     Vessel,
 )
+from hazards.review.access import visible
 from hazards.services.records import StaleRecord, record_delete
 
 

@@ -1,7 +1,7 @@
 """`POST /api/v1/steps/{id}/what-if/` and `GET /api/v1/steps/{id}/operating-window/`.
 
 Both read only: nothing is saved, whatever is asked. The step is visible exactly as in
-`/api/v1/steps/{id}/` (`hazards.access.visible`); others answer 404.
+`/api/v1/steps/{id}/` (`hazards.review.access.visible`); others answer 404.
 """
 
 from __future__ import annotations
@@ -15,13 +15,13 @@ from rest_framework import permissions, serializers
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
-from hazards.access import visible
 from hazards.api.errors import ProblemError
 from hazards.api.fields import QuantityField
 from hazards.api.idempotency import IdempotentPostMixin
 from hazards.api.parsers import LimitedJSONParser
 from hazards.models import ReactionStep
 from hazards.quantities import QuantityError, parse_quantity
+from hazards.review.access import visible
 from hazards.whatif import services
 
 

@@ -68,7 +68,7 @@ def _people_with_roles(process_id: int, roles, exclude=()) -> list:
 
 
 def _owner_if_on_process(finding) -> list:
-    from hazards.access import roles_on
+    from hazards.review.access import roles_on
 
     owner = finding.owner
     return [owner] if owner.is_active and roles_on(owner, finding.process_id) else []

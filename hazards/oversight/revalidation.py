@@ -8,7 +8,6 @@ import datetime as dt
 from django.db import transaction
 from django.utils import timezone
 
-from hazards.access import is_administrator, processes_of
 from hazards.oversight.dates import CURRENT, DEFAULT_SOURCE, DUE, OVERDUE, add_months, due_state
 from hazards.oversight.models import (
     ChangePolicy,
@@ -16,6 +15,7 @@ from hazards.oversight.models import (
     ChangeState,
     RevalidationSchedule,
 )
+from hazards.review.access import is_administrator, processes_of
 
 DEFAULT_WINDOW_DAYS = 90
 

@@ -16,8 +16,8 @@ log = logging.getLogger(__name__)
 
 
 def _process_ids(instance) -> set[int]:
-    from hazards.access import process_id_of
     from hazards.models import ReactionStep, Solvent, Vessel
+    from hazards.review.access import process_id_of
 
     if isinstance(instance, Vessel | Solvent):
         field = "vessel" if isinstance(instance, Vessel) else "solvent"

@@ -11,8 +11,8 @@ from django.conf import settings
 from django.contrib.auth import authenticate
 from django.db import connection, transaction
 
-from hazards.access import is_service_account
 from hazards.models import ApiToken
+from hazards.review.access import is_service_account
 from hazards.review.errors import (
     PASSWORD_REQUIRED,
     SERVICE_ACCOUNT_CANNOT_SIGN,

@@ -12,10 +12,16 @@ from django.http import Http404, HttpResponse
 from django.shortcuts import get_object_or_404, redirect, render
 from django.views.decorators.http import require_POST
 
-from hazards.access import PROCESS_PATHS, REFERENCE_MODELS, is_administrator, processes_of, visible
 from hazards.fieldkinds import kinds_for
 from hazards.models import Process
 from hazards.review import history
+from hazards.review.access import (
+    PROCESS_PATHS,
+    REFERENCE_MODELS,
+    is_administrator,
+    processes_of,
+    visible,
+)
 from hazards.review.models import Role
 from hazards.web import display
 from hazards.web.common import visible_or_404

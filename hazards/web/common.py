@@ -7,8 +7,9 @@ from contextlib import contextmanager
 from django.core.exceptions import PermissionDenied
 from django.shortcuts import get_object_or_404
 
-from hazards import access, trail
+from hazards import trail
 from hazards.models import Process
+from hazards.review import access
 
 NOT_YOURS = "You hold no role on this process that allows this change."
 REFERENCE_ONLY_ADMINS = "Only administrators (or holders of the permission) change reference data."

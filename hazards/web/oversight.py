@@ -6,10 +6,10 @@ from __future__ import annotations
 from django.contrib.auth.decorators import login_required
 from django.shortcuts import get_object_or_404, redirect, render
 
-from hazards.access import is_administrator, processes_of
 from hazards.oversight import readable, revalidation, services
 from hazards.oversight.dates import RETENTION_NOTE
 from hazards.oversight.models import ChangeRecord, Kind
+from hazards.review.access import is_administrator, processes_of
 
 WINDOWS = (30, 90, 180, 365)
 

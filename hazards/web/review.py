@@ -12,10 +12,10 @@ from django.shortcuts import get_object_or_404, redirect, render
 from django.views.decorators.debug import sensitive_post_parameters
 from django.views.decorators.http import require_POST
 
-from hazards.access import roles_on
 from hazards.models import Process
 from hazards.oversight.changes import light_path
 from hazards.review import errors as E
+from hazards.review.access import roles_on
 from hazards.review.models import (
     OPEN_STATES,
     Finding,

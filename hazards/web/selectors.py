@@ -8,8 +8,8 @@ from django.db import connection
 from django.db.models import Exists, F, FilteredRelation, OuterRef, Q, Subquery
 from django.db.models.functions import Coalesce
 
-from hazards.access import is_administrator, processes_of, visible
 from hazards.models import IndicatorSnapshot, Process, ProcessClassCount, ReactionStep
+from hazards.review.access import is_administrator, processes_of, visible
 from hazards.review.models import (
     OPEN_STATES,
     Finding,

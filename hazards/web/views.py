@@ -8,7 +8,6 @@ from django.db.models import Prefetch
 from django.http import JsonResponse
 from django.shortcuts import render
 
-from hazards.access import is_administrator, roles_on
 from hazards.models import (
     CalorimetryRun,
     CalorimetrySeries,
@@ -17,6 +16,7 @@ from hazards.models import (
     Process,
     ReactionStep,
 )
+from hazards.review.access import is_administrator, roles_on
 from hazards.review.models import Finding, ProcessRevision
 from hazards.review.selectors import approval_status
 from hazards.review.services.revisions import current_revision

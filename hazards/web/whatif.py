@@ -14,7 +14,6 @@ from django.shortcuts import get_object_or_404, redirect, render
 from django.urls import reverse
 from django.views.decorators.http import require_POST
 
-from hazards.access import can_edit_process, visible
 from hazards.models import ReactionStep
 from hazards.quantities import (
     DISPLAY_DIGITS,
@@ -23,6 +22,7 @@ from hazards.quantities import (
     format_quantity,
     parse_quantity,
 )
+from hazards.review.access import can_edit_process, visible
 from hazards.services.records import StaleRecord
 from hazards.whatif import charts, services
 

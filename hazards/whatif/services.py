@@ -352,7 +352,7 @@ def apply_point(*, step, user, dosing_time_s: float, process_temperature_k: floa
     signed revisions whose content changed and opens the next draft. Nothing is signed here.
     """
 
-    from hazards.access import can_edit_process
+    from hazards.review.access import can_edit_process
     from hazards.services.records import record_update
 
     if not can_edit_process(user, step.process_id):

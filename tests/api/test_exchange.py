@@ -8,7 +8,7 @@ import pytest
 from django.core.files.uploadedfile import SimpleUploadedFile
 
 from hazards import models as m
-from hazards.services.exchange import portable_inputs_hash
+from hazards.api.exchange import portable_inputs_hash
 from tests.factories import (
     CalorimetryRunFactory,
     DecompositionTestFactory,

@@ -15,7 +15,7 @@ import hashlib
 import pytest
 
 from hazards import models as m
-from hazards.services.exchange import portable_inputs_hash
+from hazards.api.exchange import portable_inputs_hash
 from tests.api.test_adiabatic_curves import arc_file
 from tests.api.test_adiabatic_curves import upload as upload_run
 from tests.api.test_decomposition_curves import csv_scan, upload

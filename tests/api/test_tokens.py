@@ -13,8 +13,8 @@ from django.utils import timezone
 from rest_framework.test import APIClient
 
 from hazards import models as m
-from hazards.access import is_service_account
 from hazards.api.auth import issue_token
+from hazards.review.access import is_service_account
 from tests.conftest import make_user
 from tests.factories import SiteFactory
 

@@ -13,8 +13,8 @@ from django.utils import timezone
 from django_tasks.base import TaskResultStatus
 from django_tasks_db.models import DBTaskResult
 
+from hazards.management import housekeeping as hk
 from hazards.models import IndicatorSnapshot, ReactionStep
-from hazards.services import housekeeping as hk
 from hazards.services.indicators import recompute_steps
 from tests.conftest import make_user
 from tests.review.factories import assessed_process, revision_in
@@ -78,7 +78,7 @@ def test_the_queue_table_has_its_own_low_autovacuum_thresholds():
 
 
 def _expected_kept(snaps: list, referenced: set, keep: int) -> set:
-    """The retention rule of hazards.services.housekeeping, written out in Python."""
+    """The retention rule of hazards.management.housekeeping, written out in Python."""
     ordered = sorted(snaps, key=lambda s: (s.computed_at, s.id))
     newest = {s.id for s in sorted(ordered, key=lambda s: (s.computed_at, s.id))[-keep:]}
     kept, seen_copies, previous = set(), set(), object()

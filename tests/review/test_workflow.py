@@ -6,9 +6,9 @@ from __future__ import annotations
 
 import pytest
 
-from hazards import access
 from hazards.api.concurrency import etag_for
 from hazards.models import ReactionStep
+from hazards.review import access
 from hazards.review import errors as E
 from hazards.review.models import ProcessRevision, Transition
 from hazards.review.services import revisions

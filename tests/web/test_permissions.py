@@ -1,4 +1,4 @@
-"""Who sees and changes what through the pages: roles on the process decide (hazards.access)."""
+"""Who sees and changes what through the pages: roles on the process decide (hazards.review.access)."""
 
 from __future__ import annotations
 

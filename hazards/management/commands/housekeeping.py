@@ -8,7 +8,7 @@ import time
 from django.core.management.base import BaseCommand
 from django.db import close_old_connections
 
-from hazards.services.housekeeping import SNAPSHOT_RETENTION, housekeeping
+from hazards.management.housekeeping import SNAPSHOT_RETENTION, housekeeping
 
 
 class Command(BaseCommand):

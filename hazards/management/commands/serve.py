@@ -92,7 +92,7 @@ def stop_embedded_database(folder: Path | None = None) -> bool:
 
 def housekeeping_argv() -> list[str]:
     """The periodic sweep: lost jobs recovered within a minute of their lease, the recompute
-    queue vacuumed, old snapshots pruned (hazards.services.housekeeping)."""
+    queue vacuumed, old snapshots pruned (hazards.management.housekeeping)."""
     manage = os.path.join(settings.BASE_DIR, "manage.py")
     return [sys.executable, manage, "housekeeping", "--every", "60"]
 

@@ -11,9 +11,9 @@ from __future__ import annotations
 from django.db import transaction
 
 from hazards import trail
-from hazards.access import roles_on
 from hazards.models import Process
 from hazards.review import errors as E
+from hazards.review.access import roles_on
 from hazards.review.models import ProcessRevision, ReviewState, RiskAcceptance, Role
 from hazards.review.requirements import unmet_requirements
 from hazards.review.signing import (

@@ -15,8 +15,8 @@ import datetime as dt
 from django.db import transaction
 
 from hazards import trail
-from hazards.access import roles_on
 from hazards.review import errors as E
+from hazards.review.access import roles_on
 from hazards.review.models import (
     UNSETTLED_FINDING,
     Finding,

@@ -32,9 +32,9 @@ from django.db import transaction
 from django.db.models import Max
 
 from hazards import trail
-from hazards.access import roles_on
 from hazards.models import CalorimetryRun, DecompositionTest, Measure, Process, ReactionStep
 from hazards.review import errors as E
+from hazards.review.access import roles_on
 from hazards.review.content import content_sha256
 from hazards.review.content import revision_content as _content
 from hazards.review.models import (

@@ -5,8 +5,8 @@ from __future__ import annotations
 from django.db import transaction
 
 from hazards import trail
-from hazards.access import is_administrator
 from hazards.review import errors as E
+from hazards.review.access import is_administrator
 from hazards.review.models import ProcessRole, Role
 
 

@@ -30,9 +30,11 @@ import hashlib
 from datetime import date
 
 from django.core.exceptions import ValidationError
-from django.db import transaction
+from django.db import models, transaction
 from django.utils import timezone
 
+from calcs.errors import CalcInputError
+from hazards.api.serializers import indicators_payload
 from hazards.fieldkinds import kinds_for
 from hazards.models import (
     CalorimetryRun,
@@ -50,7 +52,7 @@ from hazards.quantities import SPECS, QuantityError, parse_quantity
 from hazards.services.curves_store import curve_attach
 from hazards.services.indicators import canonical_json, sha256_hex
 from hazards.services.series import MAX_ROWS
-from hazards.services.series_store import SeriesRejected
+from hazards.services.series_store import SeriesRejected, analyse_series, derived_summary
 
 FORMAT, VERSION = "exoledger-process", 1
 CAUTION = ("These records support, and do not replace, a qualified assessment; local codes, "
@@ -73,8 +75,6 @@ TYPE_NAMES = {str: "a string", int: "an integer", float: "a number", bool: "true
 
 def plain_type(model_field) -> tuple[type, ...]:
     """The JSON types a plain model field is written as (dates as ISO strings)."""
-    from django.db import models
-
     if isinstance(model_field, models.BooleanField):
         return (bool,)
     if isinstance(model_field, models.IntegerField):
@@ -145,8 +145,6 @@ def export_process(process: Process) -> dict:
                           "decomposition_tests__curves", "snapshots")
         .order_by("sequence")
     )
-    from hazards.api.serializers import indicators_payload
-
     vessels = {s.vessel.tag: s.vessel for s in steps if s.vessel}
     solvents = {s.solvent.cas_number: s.solvent for s in steps if s.solvent}
     out_steps = []
@@ -281,8 +279,6 @@ def import_process(document, *, owner=None) -> Process:
     if doc.get("format") != FORMAT or doc.get("version") != VERSION:
         raise ExchangeRejected([_err("format", None, f"must be format {FORMAT!r} version "
                                      f"{VERSION}", "format")])
-    from calcs.errors import CalcInputError
-
     with transaction.atomic():
         try:
             process = _import(reader, doc, owner)
@@ -409,8 +405,6 @@ def _import_curve(reader, test, doc, path) -> None:
 
 
 def _import_series(reader, run, doc, path) -> None:
-    from hazards.services.series_store import analyse_series, derived_summary
-
     known = {"file_name", "sha256", "original_base64", "columns", "data"}
     values = reader.fields(CalorimetrySeries, doc, path, known)
     try:

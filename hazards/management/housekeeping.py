@@ -92,7 +92,7 @@ def sweep_lost_tasks(*, lease_seconds: float, now: dt.datetime | None = None) ->
     return DBTaskResult.objects.filter(
         status=TaskResultStatus.RUNNING, started_at__lt=now - dt.timedelta(seconds=lease_seconds)
     ).update(status=TaskResultStatus.FAILED, finished_at=now,
-             exception_class_path="hazards.services.housekeeping.LostWorker",
+             exception_class_path="hazards.management.housekeeping.LostWorker",
              traceback=LOST_TASK)
 
 
