@@ -40,6 +40,7 @@ from hazards.review.services import revisions as rev
 from hazards.review.signing import printed_name
 from hazards.web.common import visible_or_404
 from hazards.web.diff import humanise_diff
+from hazards.web.measures import endorsement_blocks
 
 # The signature the next step of a revision needs: state -> (meaning, role).
 NEXT_SIGNATURE = {
@@ -194,6 +195,7 @@ def _review_context(request, process, revision, **extra):
         "finding_form": FindingForm(process=process),
         "shows_indicators": True,
         "light_path": light,
+        "blocks": endorsement_blocks(revision),
     }
     if context["actions"]["sign"]:
         context.setdefault("sign_form", SignForm(initial={

@@ -22,6 +22,7 @@ from hazards.review.selectors import approval_status
 from hazards.review.services.revisions import current_revision
 from hazards.web import indicators, selectors
 from hazards.web.common import can_edit, visible_or_404
+from hazards.web.measures import overdue_measures, step_measures
 from hazards.web.review import review_actions
 
 
@@ -32,6 +33,7 @@ def home(request):
         "waiting": selectors.waiting_for(request.user),
         "class_counts": selectors.class_counts(request.user),
         "stale": selectors.stale_approvals(request.user)[:50],
+        "overdue_measures": overdue_measures(request.user),
         "shows_indicators": True,
     })
 
@@ -101,6 +103,7 @@ def step_detail(request, pk):
     history = IndicatorSnapshot.objects.filter(step=step).order_by("-computed_at", "-id")[:30]
     return render(request, "hazards/step_detail.html", {
         "step": step, "process": step.process, "snapshot": snapshot,
+        "measures": step_measures(step, snapshot),
         "indicator_rows": indicators.indicator_rows(snapshot),
         "parameter_rows": indicators.parameter_rows(snapshot),
         "groups": groups, "basis": basis, "runs": runs, "tests": tests, "series": series,
