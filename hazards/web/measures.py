@@ -6,9 +6,9 @@ from __future__ import annotations
 
 from django.utils import timezone
 
-from hazards.access import visible
 from hazards.models import IndicatorSnapshot, Measure, MeasureStatus
 from hazards.quantities import format_number
+from hazards.review.access import visible
 from hazards.review.content import record_fields
 from hazards.review.models import RiskAcceptance
 from hazards.review.requirements import policy_of_site, step_requirements, unmet_requirements
