@@ -1,0 +1,45 @@
+"""The committee's pages in Chromium: the portfolio (and later the revision comparison and
+the data plots), checked by axe, kept inside the viewport at phone width, and photographed
+at 1280 and 390 px into /tmp/shots/ for a person to look at."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+from playwright.sync_api import expect
+
+from tests.e2e.conftest import axe_violations, sign_in
+
+pytestmark = pytest.mark.e2e
+SHOTS = Path("/tmp/shots")
+
+
+def shoot_and_check(page, name: str) -> None:
+    """Screenshots at 1280 and 390 px; at each width the document itself never scrolls
+    sideways (wide tables scroll inside their frame)."""
+    SHOTS.mkdir(exist_ok=True)
+    for width in (1280, 390):
+        page.set_viewport_size({"width": width, "height": 900})
+        page.screenshot(path=str(SHOTS / f"{name}-{width}.png"), full_page=True)
+        overflow = page.evaluate(
+            "document.documentElement.scrollWidth - document.documentElement.clientWidth"
+        )
+        assert overflow <= 1, f"{name} at {width} px is {overflow} px too wide"
+    page.set_viewport_size({"width": 1280, "height": 900})
+
+
+def test_the_portfolio_filters_exports_and_fits_the_screen(world, live_server, page):
+    sign_in(page, live_server.url, "reviewer")
+    page.get_by_role("link", name="Portfolio").click()
+    expect(page.locator("main h1")).to_have_text("Portfolio")
+    expect(page.get_by_role("link", name="1. Charge and dissolve")).to_be_visible()
+    assert axe_violations(page) == []
+    page.get_by_label("Criticality class").select_option("5")
+    page.get_by_role("button", name="Apply").click()
+    expect(page.get_by_text("No step matches.").first).to_be_visible()
+    page.get_by_role("link", name="Clear").click()
+    with page.expect_download() as download:
+        page.get_by_role("link", name="spreadsheet (.xlsx)").click()
+    assert download.value.suggested_filename.endswith(".xlsx")
+    shoot_and_check(page, "portfolio")
