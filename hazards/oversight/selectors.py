@@ -30,9 +30,9 @@ from django.db.models import (
 from django.db.models.fields.json import KeyTextTransform
 from django.db.models.functions import Cast
 
-from hazards.access import visible
 from hazards.models import ReactionStep
 from hazards.oversight.models import RevalidationSchedule
+from hazards.review.access import visible
 from hazards.review.models import OPEN_STATES, ProcessRevision, ReviewState
 
 #: Indicators of the portfolio: annotation -> (snapshot value key, quantity kind or None).
