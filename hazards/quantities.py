@@ -299,7 +299,9 @@ def size_text(n_bytes: int) -> str:
 # One rule for every number a person reads, on pages, forms, the what-if page and the PDF
 # dossier: DISPLAY_DIGITS significant digits, trailing zeros dropped, plain decimals from
 # 1e-4 up to 1e7 and a power of ten written as a reader writes it (2.39·10¹⁰) beyond.
-# The API carries more (`tidy`, SIGNIFICANT_DIGITS): there a number is data, not text.
+# The API carries more (`tidy`, SIGNIFICANT_DIGITS): there a number is data, not text; and
+# a form's input shows the stored value with 10 digits (`QuantityFormField.prepare_value`),
+# so that saving a form nobody touched does not round the record.
 DISPLAY_DIGITS = 4
 _SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
 
