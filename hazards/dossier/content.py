@@ -20,9 +20,11 @@ from django.db.models import Prefetch
 
 import calcs
 from calcs.constants import REFERENCES
+from hazards.dossier.decomposition_charts import evidence
 from hazards.models import (
     CalorimetryRun,
     CalorimetrySeries,
+    DecompositionCurve,
     DecompositionTest,
     IndicatorSnapshot,
     Process,
@@ -209,6 +211,30 @@ def _series(hashes: set[str]) -> dict:
     return out
 
 
+def _decomposition(basis_by_step: dict[int, dict], record: dict) -> dict:
+    """Each step's basis decomposition test with curves: the curves (by the SHA-256 the
+    revision froze, where it froze them), the kinetics and the chart points, by step id."""
+    _, _, frozen_tests = _in_record(record)
+    test_ids = {b.get("decomposition_test") for b in basis_by_step.values()} - {None}
+    tests = {t.pk: t for t in DecompositionTest._base_manager.filter(pk__in=test_ids)}
+    curves: dict[int, list] = {}
+    for c in DecompositionCurve._base_manager.filter(test_id__in=test_ids).order_by("id"):
+        curves.setdefault(c.test_id, []).append(c)
+    out = {}
+    for step_id, basis in basis_by_step.items():
+        tid = basis.get("decomposition_test")
+        test, frozen = tests.get(tid), frozen_tests.get(tid)
+        mine = curves.get(tid, [])
+        if frozen is not None:
+            shas = [c["sha256"] for c in frozen.get("curves") or []]
+            mine = [c for c in mine if c.sha256 in shas]
+        if test is None or not mine:
+            continue
+        kinetics = frozen.get("kinetics") if frozen is not None else test.kinetics
+        out[str(step_id)] = evidence(test, mine, kinetics or {}, SERIES_POINTS)
+    return out
+
+
 def _step_snapshots(record: dict) -> list[tuple[int, dict]]:
     """(step id, snapshot-like dict) of every step in a record, whatever produced it."""
     out = []
@@ -293,6 +319,7 @@ def dossier_content(process: Process, revision=None) -> dict:
         "revalidation": _revalidation(process),
         "provenance": _provenance(step_ids, basis, record),
         "series": _series(hashes),
+        "decomposition": _decomposition(basis, record),
         "references": _references(record),
         "record_date": max(record_dates) if record_dates else "2000-01-01T00:00:00Z",
         "software": library_versions(DOSSIER_LIBRARIES),

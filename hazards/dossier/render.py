@@ -14,6 +14,7 @@ from django.conf import settings
 from django.template.loader import render_to_string
 
 from hazards.dossier import charts as ch
+from hazards.dossier import decomposition_charts as dc
 from hazards.dossier.pdf import PdfJob, write_pdf
 from hazards.dossier.sandbox import EXIT_MEMORY
 from hazards.dossier.view import dossier_view
@@ -81,8 +82,9 @@ def build_pages(content: dict, meta: DossierMeta) -> tuple[PdfJob, list[dict]]:
     """The job without its charts (their names are known), and the view's steps to draw."""
     view = dossier_view(content, meta)
     for step in view["steps"]:
+        names = ch.chart_names(step["snapshot"]) + dc.chart_names(step["decomposition"])
         step["charts"] = [{"name": name, "url": f"chart:{chart_key(step, name)}"}
-                          for name in ch.chart_names(step["snapshot"])]
+                          for name in names]
     html = render_to_string("dossier/dossier.html", {
         **view, "meta": meta, "deference": DEFERENCE, "keywords": keywords(meta),
         "header_left": css_string(f"{view['process']['name']} · {view['process']['site']['name']}"),
@@ -112,8 +114,12 @@ def draw_charts(steps: list[dict]) -> dict[str, str]:
             timeout=settings.DOSSIER_RENDER_TIMEOUT_SECONDS)
     except TimeoutError as exc:
         raise RenderError(str(exc)) from None
-    return {chart_key(step, name): svg
-            for step, svgs in zip(steps, drawn, strict=True) for name, svg in svgs.items()}
+    out = {chart_key(step, name): svg
+           for step, svgs in zip(steps, drawn, strict=True) for name, svg in svgs.items()}
+    for step in steps:  # few steps have curves: drawn here, from the frozen points
+        for name, svg in dc.decomposition_charts(step.get("decomposition")).items():
+            out[chart_key(step, name)] = svg
+    return out
 
 
 def build_job(content: dict, meta: DossierMeta) -> PdfJob:

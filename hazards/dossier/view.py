@@ -241,6 +241,55 @@ def parameter_row(key: str, value) -> dict:
     return {"key": key, "label": label, "value": shown, "unit": unit}
 
 
+def _decomposition_view(d: dict | None) -> dict | None:
+    """The rows a dossier page prints of a step's decomposition curves and kinetics."""
+    if not d:
+        return None
+    curves = []
+    for c in d["curves"]:
+        x = c["derived"]
+        if x.get("kind") == "dsc":
+            figures = (f"{_number(x['heating_rate_k_per_s'] * 60)} K/min; onset "
+                       f"{_show(x.get('onset_k'), _C)[0]} °C (first deviation "
+                       f"{_show(x.get('first_deviation_k'), _C)[0]} °C); peak "
+                       f"{_show(x.get('peak_k'), _C)[0]} °C; "
+                       f"{_number(x['energy_j_per_kg'] / 1e3)} kJ/kg ({x.get('baseline')} "
+                       "baseline)")
+        else:
+            corr = x.get("corrected") or {}
+            gas = (x.get("gas") or {}).get("mol_per_kg")
+            figures = (f"φ {_show(x.get('phi'), None)[0]}; onset "
+                       f"{_show(x.get('onset_k'), _C)[0]} °C at 0.02 K/min; measured TMR "
+                       f"{_number(x['measured_tmr_s'] / 60)} min; φ-corrected onset "
+                       f"{_show(corr.get('onset_k'), _C)[0]} °C, TMR there "
+                       f"{_show(corr.get('tmr_at_onset_s'), ('min', lambda s: s / 60))[0]} "
+                       f"min; max pressure "
+                       f"{_show(x.get('max_pressure_pa'), ('bar', lambda p: p / 1e5))[0]} bar"
+                       f"; gas after cooling {_show(gas, ('mol/kg', lambda v: v))[0]} mol/kg")
+        curves.append({"file_name": c["file_name"], "sha256": c["sha256"],
+                       "sample_mass": _show(c["sample_mass_kg"], ("mg", lambda m: m * 1e6))[0],
+                       "figures": figures})
+    k = d.get("kinetics") or {}
+    params = []
+    fit = (k.get("fits") or {}).get(k.get("model")) or {}
+    for name, p in (fit.get("parameters") or {}).items():
+        params.append(f"{name} = {_number(p['value'])} ± {_number(p['stderr'])} {p['unit']}")
+    choice = k.get("choice") or {}
+    return {
+        "method": d.get("method"),
+        "curves": curves,
+        "status": k.get("status", ""),
+        "model": k.get("model"),
+        "f_alpha": fit.get("f_alpha", ""),
+        "parameters": params,
+        "criterion": choice.get("criterion", ""),
+        "delta_aic": _number(choice["delta_aic"]) if choice.get("delta_aic") is not None
+        else None,
+        "screen": (k.get("screen") or {}).get("reason", ""),
+        "covariance_method": k.get("covariance_method", ""),
+    }
+
+
 def _step(step: dict, context: dict) -> dict:
     snap = step.get("snapshot") or step.get("indicators") or {}
     inputs, values = snap.get("inputs") or {}, snap.get("values") or {}
@@ -277,6 +326,9 @@ def _step(step: dict, context: dict) -> dict:
         "mode": MODE.get(inputs.get("operation_mode") or step.get("operation_mode"), "—"),
         "snapshot": snap,
         "series": ser,
+        "decomposition": context.get("decomposition", {}).get(str(step.get("id"))),
+        "decomposition_view": _decomposition_view(
+            context.get("decomposition", {}).get(str(step.get("id")))),
         "inputs": input_rows,
         "indicators": indicator_rows,
         "parameters": [parameter_row(k, v) for k, v in sorted(params.items())],

@@ -208,9 +208,15 @@ def _draw(snapshot, series_data: dict | None) -> list[dict]:
 
 def decomposition_chart_images(test) -> list[dict]:
     """The evidence of a test's curves (scans with baselines and fit, E(α)) as images."""
-    from hazards.dossier.decomposition_charts import e_alpha_chart, scan_data, scans_chart
+    from hazards.dossier.decomposition_charts import (
+        arc_chart,
+        e_alpha_chart,
+        run_points,
+        scan_data,
+        scans_chart,
+    )
 
-    if test is None or test.method != "dsc" or not test.curves.exists():
+    if test is None or not test.curves.exists():
         return []
     # a test's version changes with every curve and every derived value: the charts' key
     key = f"decomposition-charts:{test.pk}:{test.version}"
@@ -219,12 +225,16 @@ def decomposition_chart_images(test) -> list[dict]:
         return found
     kinetics = test.kinetics or {}
     out = []
-    for name, title, svg in (
-        ("dsc_scans", "DSC scans with baselines and the fitted model",
-         scans_chart(scan_data(test), kinetics)),
-        ("e_alpha", "Activation energy against conversion (Friedman, OFW)",
-         e_alpha_chart(kinetics)),
-    ):
+    charts = (
+        (("dsc_scans", "DSC scans with baselines and the fitted model",
+          scans_chart(scan_data(test), kinetics)),
+         ("e_alpha", "Activation energy against conversion (Friedman, OFW)",
+          e_alpha_chart(kinetics)))
+        if test.method == "dsc"
+        else (("adiabatic_runs", "Adiabatic runs: self-heat rate, measured and φ-corrected",
+               arc_chart(run_points(test.curves.order_by("id"), 400))),)
+    )
+    for name, title, svg in charts:
         encoded = base64.b64encode(svg.encode("utf-8")).decode("ascii")
         out.append({"name": name, "title": title, "src": f"data:image/svg+xml;base64,{encoded}"})
     caches["charts"].set(key, out)

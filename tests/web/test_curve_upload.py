@@ -80,6 +80,7 @@ def test_an_adiabatic_run_is_previewed_with_its_figures_then_stored_on_confirmat
 ):
     # first-order run at φ = 2, E = 100 kJ/mol (tests/api/test_adiabatic_curves.py)
     client = client_as(people["author"])
+    step.decomposition_tests.all().delete()
     test = DecompositionTest.objects.create(step=step, method="adiabatic")
     raw, _, _ = arc_file(3001)
     response = client.post(
@@ -103,3 +104,5 @@ def test_an_adiabatic_run_is_previewed_with_its_figures_then_stored_on_confirmat
     curve = DecompositionCurve.objects.get()
     assert curve.free_volume_m3 == pytest.approx(1e-5)
     assert curve.derived["gas"]["mol_per_kg"] > 0
+    page = client.get(f"/steps/{step.pk}/").content.decode()
+    assert "Adiabatic runs: self-heat rate, measured and φ-corrected" in page
