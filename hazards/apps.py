@@ -11,6 +11,10 @@ class HazardsConfig(AppConfig):
 
         from hazards import checks  # noqa: F401  (registers system checks)
         from hazards.dbroles import ensure_app_role_after_migrate
+        from hazards.models.base import inputs_written
+        from hazards.services.indicators import on_inputs_written
 
         # After every migrate, as the owner: the application's role and its grants.
         post_migrate.connect(ensure_app_role_after_migrate, sender=self)
+        # Models announce written inputs; the indicator recompute subscribes (same transaction).
+        inputs_written.connect(on_inputs_written, dispatch_uid="indicators-recompute")

@@ -4,6 +4,15 @@ from __future__ import annotations
 
 import pghistory
 from django.db import models, transaction
+from django.dispatch import Signal
+
+# Sent inside the writing transaction after indicator inputs were written (save, delete and
+# the bulk queryset writes): the indicator recompute subscribes
+# (`hazards.services.indicators.on_inputs_written`, connected in HazardsConfig.ready) and
+# drains the queue of steps the triggers filled in the same transaction. A commit with
+# queued steps left is refused by a deferred constraint trigger (hazards.models.triggers),
+# so a missing subscriber fails loudly instead of leaving stale indicators.
+inputs_written = Signal()
 
 
 class InputQuerySet(models.QuerySet):
@@ -39,9 +48,7 @@ class InputQuerySet(models.QuerySet):
 
 
 def _flush(using: str) -> None:
-    from hazards.services.indicators import flush_pending
-
-    flush_pending(using=using)
+    inputs_written.send(sender=InputModel, using=using)
 
 
 class InputModel(models.Model):

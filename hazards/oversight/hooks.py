@@ -45,10 +45,12 @@ def _site_saved(sender, instance, created, using="default", **kwargs) -> None:
 
 def connect() -> None:
     from hazards.models import Site
-    from hazards.oversight.changes import on_approved_inputs_changed
+    from hazards.oversight.changes import light_path, on_approved_inputs_changed
     from hazards.review.models import Finding, Signature
+    from hazards.review.policies import provide_light_path
     from hazards.services.indicators import approved_inputs_changed
 
+    provide_light_path(light_path)
     approved_inputs_changed.connect(on_approved_inputs_changed, dispatch_uid="oversight-changes")
     post_save.connect(_signature_saved, sender=Signature, dispatch_uid="oversight-signature")
     post_save.connect(_finding_saved, sender=Finding, dispatch_uid="oversight-finding")

@@ -394,6 +394,11 @@ def flush_pending(*, using: str = "default") -> dict:
         return recompute_steps(ids, using=using) if ids else {}
 
 
+def on_inputs_written(sender, *, using: str = "default", **kwargs) -> None:
+    """Subscriber of `hazards.models.base.inputs_written`: recompute in the same transaction."""
+    flush_pending(using=using)
+
+
 def current_snapshot(step: ReactionStep) -> IndicatorSnapshot | None:
     return IndicatorSnapshot.objects.filter(step=step, is_current=True).first()
 

@@ -13,7 +13,6 @@ from django.views.decorators.debug import sensitive_post_parameters
 from django.views.decorators.http import require_POST
 
 from hazards.models import Process
-from hazards.oversight.changes import light_path
 from hazards.review import errors as E
 from hazards.review.access import roles_on
 from hazards.review.models import (
@@ -28,6 +27,7 @@ from hazards.review.models import (
     Role,
     Signature,
 )
+from hazards.review.policies import light_path
 from hazards.review.selectors import (
     approval_status,
     content_diff,

@@ -19,7 +19,8 @@ and the database refuses any other way (`revision_guard_update`).
 
 The lighter review path (issue 10 item 2): a lodged revision that replaces an approved one
 may be endorsed without the reviewer's step when its site allows it and every open change
-record of the process is within the site's tolerances (`hazards.oversight.changes.light_path`);
+record of the process is within the site's tolerances (`hazards.oversight.changes.light_path`, asked
+through `hazards.review.policies`);
 the transition row says so and why. Author and approver are still two people.
 
 Leaving a revision by sending it back or replacing it, and a change to the content of the
@@ -34,6 +35,7 @@ from django.db.models import Max
 from hazards import trail
 from hazards.models import CalorimetryRun, DecompositionTest, Measure, Process, ReactionStep
 from hazards.review import errors as E
+from hazards.review import policies
 from hazards.review.access import roles_on
 from hazards.review.content import content_sha256
 from hazards.review.content import revision_content as _content
@@ -197,9 +199,7 @@ def _sign_locked(revision_id, user, meaning, role, needed, to_state, role_error,
         raise E.TransitionRefused(state_error)
     if light_candidate:
         # Its content is frozen; a stale one is refused below before anything is signed.
-        from hazards.oversight.changes import light_path
-
-        allowed, light_reason = light_path(revision=revision, content=revision.content, lock=True)
+        allowed, light_reason = policies.light_path(revision=revision, content=revision.content, lock=True)
         if light_reason is None:
             raise E.TransitionRefused(E.NOT_WITHIN_LIGHT_PATH if allowed else state_error)
         reason = f"{light_reason} {reason}".strip()
