@@ -42,6 +42,7 @@ from hazards.models import (
     DecompositionCurve,
     DecompositionPeak,
     DecompositionTest,
+    Measure,
     Process,
     ReactionStep,
     Site,
@@ -60,8 +61,8 @@ CAUTION = ("These records support, and do not replace, a qualified assessment; l
 SKIP = {"id", "created_at", "updated_at", "version", "needs_review", "approved_inputs_hash",
         "raw_file", "original", "sha256", "data", "derived", "columns", "file_name", "owner",
         "kinetics"}  # derived again on import from the exchanged decomposition curves
-SUFFIXES = ("_j_per_kg_k", "_w_per_m2_k", "_j_per_kg", "_w_per_kg", "_mol_per_kg", "_k_per_s",
-            "_j_per_mol", "_m3", "_m2", "_kg", "_pa", "_k", "_s")
+SUFFIXES = ("_w_per_k", "_kg_per_mol", "_kg_per_m3", "_j_per_kg_k", "_w_per_m2_k", "_j_per_kg", "_w_per_kg", "_mol_per_kg", "_k_per_s",
+            "_j_per_mol", "_m3", "_m2", "_kg", "_pa", "_k", "_s", "_w", "_m")
 
 
 def portable_inputs_hash(inputs: dict) -> str:
@@ -141,7 +142,7 @@ def export_process(process: Process) -> dict:
     """The exchange document of a process (reads a fixed number of queries)."""
     steps = list(
         ReactionStep.objects.filter(process=process).select_related("vessel", "solvent")
-        .prefetch_related("calorimetry_runs__series", "decomposition_tests__peaks",
+        .prefetch_related("calorimetry_runs__series", "decomposition_tests__peaks", "measures",
                           "decomposition_tests__curves", "snapshots")
         .order_by("sequence")
     )
@@ -162,6 +163,9 @@ def export_process(process: Process) -> dict:
                                  for r in step.calorimetry_runs.all()],
             "decomposition_tests": [_test(t) for t in step.decomposition_tests.all()],
             "indicators": indicators,
+            # protective measures (issue 17); their owner is a local person, not exchanged
+            **({"measures": [_dump(m) for m in sorted(step.measures.all(), key=lambda m: m.pk)]}
+               if step.measures.all() else {}),
         })
     site = process.site
     return {
@@ -312,7 +316,7 @@ def _import(reader: _Reader, doc: dict, owner) -> Process | None:
     process.save()
     for i, raw in enumerate(reader.items(doc, "steps", "")):
         _import_step(reader, process, reader.obj(raw, f"steps.{i}"), f"steps.{i}.", vessels,
-                     solvents)
+                     solvents, owner)
     return process
 
 
@@ -324,9 +328,9 @@ def _ref(reader, table: dict, key, path: str, what: str):
     return table.get(key)
 
 
-def _import_step(reader, process, doc, path, vessels, solvents) -> None:
+def _import_step(reader, process, doc, path, vessels, solvents, owner=None) -> None:
     children = {"vessel", "solvent", "calorimetry_runs", "decomposition_tests", "indicators",
-                "needs_review"}
+                "needs_review", "measures"}
     step = ReactionStep(
         process=process,
         vessel=_ref(reader, vessels, doc.get("vessel"), f"{path}vessel", "vessel"),
@@ -366,6 +370,13 @@ def _import_step(reader, process, doc, path, vessels, solvents) -> None:
                 DecompositionPeak, reader.obj(peak_raw, at.rstrip(".")), at))
             if reader.clean(peak, at, exclude=["test"]) and not reader.errors:
                 peak.save()
+    for i, raw in enumerate(reader.items(doc, "measures", path)):
+        where = f"{path}measures.{i}."
+        # the importing person owns the imported measures (owners are local people)
+        measure = Measure(step=step, owner=owner, **reader.fields(
+            Measure, reader.obj(raw, where.rstrip(".")), where))
+        if reader.clean(measure, where, exclude=["step"]) and not reader.errors:
+            measure.save()
 
 
 def _import_curve(reader, test, doc, path) -> None:

@@ -17,6 +17,7 @@ from hazards.models import (
     DecompositionCurve,
     DecompositionPeak,
     DecompositionTest,
+    Measure,
     ReactionStep,
     Site,
     Solvent,
@@ -119,7 +120,11 @@ ExchangeTest = _doc_serializer(DecompositionTest, "ExchangeDecompositionTest", {
         required=False, help_text="True when the test's E was derived from its adiabatic "
         "runs (derived again on import), not typed."),
 })
+ExchangeMeasure = _doc_serializer(Measure, "ExchangeMeasure", required=("kind", "acts_on",
+                                                                       "due_date"))
 ExchangeStep = _doc_serializer(ReactionStep, "ExchangeStep", {
+    "measures": ExchangeMeasure(many=True, required=False, help_text="Protective measures; "
+                                "on import the importing person owns them."),
     "vessel": serializers.CharField(allow_null=True, required=False, help_text="Vessel tag."),
     "solvent": serializers.CharField(allow_null=True, required=False, help_text="CAS number."),
     "needs_review": serializers.BooleanField(required=False, help_text="Informative; not "
