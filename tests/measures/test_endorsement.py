@@ -214,3 +214,22 @@ def test_measures_enter_the_inputs_only_when_there_are_some(process, author):
     Measure.objects.filter(pk=m.pk).delete()
     after = IndicatorSnapshot.objects.get(step=step, is_current=True)
     assert after.inputs_hash == before.inputs_hash
+
+
+def test_the_change_comparison_lists_a_measure_that_moved(strict_site, author, reviewer,
+                                                          approver):
+    from hazards.review.selectors import content_diff
+    from hazards.web.diff import humanise_diff
+
+    step = strict_site.steps.get()
+    m = svc.measure_create(step=step, data={
+        "kind": "redesign", "acts_on": "the dosing of the step", "owner": author,
+        "due_date": dt.date(2027, 1, 31)})
+    before = checked(strict_site, author, reviewer).content
+    svc.measure_update(measure=m, data={"status": "in_place"})
+    from hazards.review.content import revision_content
+
+    rows = humanise_diff(content_diff(before, revision_content(strict_site)))
+    [row] = [r for r in rows if r["label"] == "status"]
+    assert (row["where"], row["from"], row["to"]) == (
+        f"step {step.pk}, protective measure {m.pk}", "proposed", "in_place")
