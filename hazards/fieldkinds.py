@@ -73,3 +73,48 @@ QUANTITY_FIELDS: dict[str, dict[str, str]] = {
 
 def kinds_for(model) -> dict[str, str]:
     return QUANTITY_FIELDS.get(model._meta.model_name, {})
+
+
+# What people call each field (forms, change records, notifications).
+LABELS = {
+    "sequence": "Sequence number", "operation_mode": "Operation mode", "system": "System",
+    "process_temperature_k": "Process temperature Tp",
+    "reaction_mass_kg": "Reaction mass (plant scale)",
+    "specific_heat_capacity_j_per_kg_k": "Specific heat capacity cp",
+    "operating_pressure_pa": "Operating pressure", "dosing_time_s": "Dosing time",
+    "mtt_override_k": "MTT override", "mtt_override_reason": "Reason for the MTT override",
+    "initial_mass_fraction": "Initial charge as a fraction of the final mass (semi-batch)",
+    "non_volatile_declared": "Reaction mass declared non-volatile (closed vessel without "
+                             "vapour-pressure data)",
+    "non_volatile_reason": "Basis of the non-volatile declaration",
+    "lab_scale_kg": "Lab-scale mass", "run_date": "Run date",
+    "specific_reaction_heat_j_per_kg": "Specific reaction heat Q′",
+    "max_accumulation": "Maximum accumulation X_ac,max",
+    "max_heat_release_rate_w_per_kg": "Peak heat-release rate",
+    "gas_release_mol_per_kg": "Gas release", "is_basis": "Basis of the assessment",
+    "test_date": "Test date", "sample_mass_kg": "Sample mass", "heating_rate_k_per_s": "Heating rate",
+    "onset_temperature_k": "Onset temperature",
+    "decomposition_energy_j_per_kg": "Decomposition energy",
+    "activation_energy_j_per_mol": "Activation energy Ea",
+    "reference_temperature_k": "Reference temperature",
+    "heat_release_rate_at_reference_w_per_kg": "Heat-release rate at the reference temperature",
+    "phi_factor": "φ factor of the test", "peak_temperature_k": "Peak temperature",
+    "volume_m3": "Volume", "heat_transfer_area_m2": "Heat-transfer area",
+    "heat_transfer_coefficient_w_per_m2_k": "Heat-transfer coefficient U",
+    "coolant_temperature_k": "Coolant temperature", "design_pressure_pa": "Design pressure",
+    "relief_set_pressure_pa": "Relief set pressure", "headspace_volume_m3": "Headspace volume",
+    "cas_number": "CAS number", "vapour_pressure_source": "Vapour pressure from",
+    "antoine_a": "Antoine A", "antoine_b": "Antoine B", "antoine_c": "Antoine C",
+    "antoine_log_base": "Antoine logarithm", "antoine_pressure_unit": "Antoine pressure unit",
+    "antoine_temperature_unit": "Antoine temperature unit",
+    "antoine_t_min_k": "Antoine range, lowest temperature",
+    "antoine_t_max_k": "Antoine range, highest temperature",
+    "antoine_source": "Source of the Antoine set",
+}
+
+# The quantity kind of each indicator that has one.
+INDICATOR_KINDS = {"mtsr_k": "temperature", "mtt_k": "temperature", "td24_k": "temperature",
+                   "adiabatic_temperature_rise_k": "temperature_difference",
+                   "tmr_ad_at_mtsr_s": "duration_h", "cooling_capacity_w": "power",
+                   "plant_peak_heat_release_w": "power", "minimum_dosing_time_s": "time",
+                   "mtsr_time_s": "time", "end_pressure_pa": "pressure"}

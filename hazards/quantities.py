@@ -350,3 +350,33 @@ def format_quantity(value, unit: str, digits: int = DISPLAY_DIGITS) -> str:
         return "—"
     return f"{format_number(value, digits)} {unit}".strip()
 
+
+# Units as people read them on pages, in notifications and in the dossier (the API keeps
+# pint's spelling, DISPLAY above).
+HUMAN_UNIT = {
+    "degC": "°C",
+    "kJ/(kg*K)": "kJ/(kg·K)",
+    "W/(m**2*K)": "W/(m²·K)",
+    "m**3": "m³",
+    "m**2": "m²",
+    "dimensionless": "",
+}
+
+
+def human_unit(kind: str) -> str:
+    unit = SPECS[kind].canonical_unit
+    return HUMAN_UNIT.get(unit, unit)
+
+
+def quantity_text(si_value, kind: str | None) -> str:
+    """An SI magnitude written in the field's canonical unit for people, e.g. '45 °C'."""
+    if si_value is None:
+        return "—"
+    if kind is None:
+        return format_number(si_value)
+    if kind == "mass" and 0 < abs(si_value) < 1:  # lab masses read better in g or mg
+        grams = float(si_value) * 1000
+        return (f"{format_number(grams)} g" if abs(grams) >= 1
+                else f"{format_number(grams * 1000)} mg")
+    shown = from_si(float(si_value), kind=kind)
+    return f"{format_number(shown)} {human_unit(kind)}".strip()

@@ -1,9 +1,11 @@
-"""Every write to dossiers: request, claim, finish, fail, retry (one module, row locks)."""
+"""The queue side of dossiers: request and retry (row locks), which enqueue the render task.
+
+Layers inside the app: this module -> `tasks` (the render job, recovery of lost renders) ->
+`rendering` (claim, render, finish, fail). The lifecycle's functions are importable here as
+well, so callers need one module.
+"""
 
 from __future__ import annotations
-
-import hashlib
-import logging
 
 from django.db import connection, transaction
 from django.utils import timezone
@@ -11,11 +13,29 @@ from django.utils import timezone
 from hazards.dossier import review_bridge
 from hazards.dossier.content import content_hashes, dossier_content
 from hazards.dossier.models import Dossier, DossierStatus
-from hazards.dossier.render import DossierMeta, RenderError, render_in_process, render_sandboxed
+from hazards.dossier.rendering import (
+    LOST_WORKER,
+    dossier_claim,
+    dossier_fail,
+    dossier_finish,
+    dossier_render,
+)
 from hazards.dossier.seal import seal_for
+from hazards.dossier.tasks import dossier_recover_stale, render_dossier
 from hazards.models import Process
 
-logger = logging.getLogger(__name__)
+__all__ = [
+    "LOST_WORKER",
+    "NOT_RETRYABLE",
+    "ReissueLimited",
+    "dossier_claim",
+    "dossier_fail",
+    "dossier_finish",
+    "dossier_recover_stale",
+    "dossier_render",
+    "dossier_request",
+    "dossier_retry",
+]
 
 NOT_RETRYABLE = "Only a failed dossier can be queued again."
 REISSUE_WINDOW = timezone.timedelta(hours=24)
@@ -31,7 +51,6 @@ class ReissueLimited(Exception):
         super().__init__(message)
         self.message = message
         self.retry_after_seconds = retry_after_seconds
-LOST_WORKER = "the worker rendering this dossier stopped before it finished"
 
 
 def _next_id() -> int:
@@ -97,83 +116,8 @@ def dossier_request(*, process: Process, requested_by=None, reason: str = "",
             requested_by=requested_by, reason=reason[:200], created_at=timezone.now(),
         )
         if enqueue:
-            from hazards.dossier.tasks import render_dossier
-
             render_dossier.enqueue(dossier.pk)
     return dossier, True
-
-
-def dossier_claim(*, dossier_id: int, worker: str) -> Dossier | None:
-    """Move a queued dossier to rendering; None when another worker has it or it is done.
-
-    SKIP LOCKED: a second worker does not wait for the first one's lock, it moves on.
-    """
-    with transaction.atomic():
-        dossier = (Dossier.objects.select_for_update(skip_locked=True)
-                   .filter(pk=dossier_id, status=DossierStatus.QUEUED).first())
-        if dossier is None:
-            return None
-        dossier.status = DossierStatus.RENDERING
-        dossier.started_at = timezone.now()
-        dossier.attempts += 1
-        dossier.worker = worker[:120]
-        dossier.error = ""
-        dossier.save(update_fields=["status", "started_at", "attempts", "worker", "error"])
-    return dossier
-
-
-def dossier_finish(*, dossier: Dossier, pdf: bytes) -> Dossier:
-    with transaction.atomic():
-        row = Dossier.objects.select_for_update().get(pk=dossier.pk)
-        if row.status != DossierStatus.RENDERING:
-            raise RenderError(f"dossier {row.pk} is {row.status}, not rendering")
-        row.pdf = pdf
-        row.sha256 = hashlib.sha256(pdf).hexdigest()
-        row.size_bytes = len(pdf)
-        row.status = DossierStatus.DONE
-        row.finished_at = timezone.now()
-        row.save(update_fields=["pdf", "sha256", "size_bytes", "status", "finished_at"])
-    return row
-
-
-def dossier_fail(*, dossier: Dossier, error: str) -> Dossier:
-    with transaction.atomic():
-        row = Dossier.objects.select_for_update().get(pk=dossier.pk)
-        if row.status == DossierStatus.DONE:
-            return row
-        row.status = DossierStatus.FAILED
-        row.error = error[:2000]
-        row.finished_at = timezone.now()
-        row.save(update_fields=["status", "error", "finished_at"])
-    return row
-
-
-def dossier_render(*, dossier_id: int, worker: str = "inline", sandbox: bool = True,
-                   **limits) -> Dossier | None:
-    """Claim, render and store one dossier; None if it was not this worker's to render."""
-    dossier = dossier_claim(dossier_id=dossier_id, worker=worker)
-    if dossier is None:
-        return None
-    meta = DossierMeta.of(dossier)
-    try:
-        pdf = (render_sandboxed(dossier.content, meta, **limits) if sandbox
-               else render_in_process(dossier.content, meta))
-    except RenderError as exc:
-        return dossier_fail(dossier=dossier, error=str(exc))
-    except Exception as exc:  # noqa: BLE001 - recorded on the row, then re-raised
-        logger.exception("dossier %s failed", dossier.pk)
-        dossier_fail(dossier=dossier, error=f"{type(exc).__name__}: {exc}")
-        raise
-    try:
-        return dossier_finish(dossier=dossier, pdf=pdf)
-    except RenderError:
-        raise  # no longer this worker's to finish (see dossier_finish)
-    except Exception as exc:  # e.g. the disk full: never leave the row `rendering`
-        logger.exception("dossier %s could not be stored", dossier.pk)
-        full = "No space left on device" in str(exc) or getattr(exc, "errno", None) == 28
-        dossier_fail(dossier=dossier, error="the PDF could not be stored ("
-                     + ("no space left on device" if full else type(exc).__name__) + ")")
-        raise
 
 
 def dossier_retry(*, dossier: Dossier) -> Dossier:
@@ -184,29 +128,5 @@ def dossier_retry(*, dossier: Dossier) -> Dossier:
             raise ValueError(NOT_RETRYABLE)
         row.status = DossierStatus.QUEUED
         row.save(update_fields=["status"])
-        from hazards.dossier.tasks import render_dossier
-
         render_dossier.enqueue(row.pk)
     return row
-
-
-def dossier_recover_stale(*, older_than_seconds: float, max_attempts: int = 3) -> int:
-    """Dossiers left `rendering` by a worker that died (its lease ran out): queued and
-    enqueued again, so another worker picks them up; failed (retry by hand) once they have
-    been claimed `max_attempts` times, so a render that kills its worker cannot loop."""
-    cutoff = timezone.now() - timezone.timedelta(seconds=older_than_seconds)
-    with transaction.atomic():
-        rows = list(Dossier.objects.select_for_update(skip_locked=True)
-                    .filter(status=DossierStatus.RENDERING, started_at__lt=cutoff))
-        for row in rows:
-            if row.attempts < max_attempts:
-                row.status, row.error = DossierStatus.QUEUED, LOST_WORKER
-                row.save(update_fields=["status", "error"])
-                from hazards.dossier.tasks import render_dossier
-
-                render_dossier.enqueue(row.pk)
-            else:
-                row.status, row.error, row.finished_at = DossierStatus.FAILED, LOST_WORKER, \
-                    timezone.now()
-                row.save(update_fields=["status", "error", "finished_at"])
-    return len(rows)

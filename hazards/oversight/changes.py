@@ -25,8 +25,6 @@ from hazards.oversight.models import (
     ReviewPath,
 )
 
-NO_REASON = "(no reason was given)"
-
 
 def flatten(data: dict | None, prefix: str = "") -> dict:
     """Nested inputs as one level of dotted keys (lists compare whole)."""
@@ -202,9 +200,9 @@ def record_changes(*, steps: dict[int, bool], snapshots: dict, previous: dict,
             entry.record_id = record.pk
         ChangeEntry.objects.using(using).bulk_create([e for _, e in entries])
     if opened:
-        from hazards.oversight import notify
+        from hazards.oversight import queue
 
-        notify.approval_lapsed_later({r.approved_revision_id for r in opened
+        queue.approval_lapsed_later({r.approved_revision_id for r in opened
                                       if r.approved_revision_id}, using=using)
     return opened
 
@@ -275,18 +273,3 @@ def light_path(*, revision, content: dict, lock: bool = False,
 def on_approved_inputs_changed(sender, *, using="default", steps, snapshots, previous,
                                **kwargs) -> None:
     record_changes(steps=steps, snapshots=snapshots, previous=previous, using=using)
-
-
-def describe(record: ChangeRecord) -> str:
-    """One paragraph people can read: what changed, which indicators moved, the class."""
-    from hazards.oversight import readable
-
-    changed = readable.sentence(record.changes)
-    moved = [readable.label(k) for k, v in record.indicators.items() if v.get("beyond_tolerance")]
-    text = "Changed: " + (changed or "back to the approved inputs") + ". "
-    text += ("Indicators moved beyond tolerance: " + ", ".join(moved) + ". " if moved
-             else "No indicator moved beyond the site's tolerances. ")
-    if record.class_changed:
-        text += f"Criticality class {record.class_before} → {record.class_after}. "
-    text += f"Reason: {record.reason or NO_REASON}."
-    return text

@@ -7,7 +7,7 @@ from django.db.models.signals import post_save
 
 
 def _signature_saved(sender, instance, created, using="default", **kwargs) -> None:
-    from hazards.oversight import changes, notify, revalidation
+    from hazards.oversight import changes, queue, revalidation
     from hazards.oversight.models import Kind
     from hazards.review.models import Meaning
 
@@ -16,22 +16,22 @@ def _signature_saved(sender, instance, created, using="default", **kwargs) -> No
     revision = instance.revision
     key = f"review.processrevision:{revision.pk}"
     if instance.meaning == Meaning.AUTHORED:
-        notify.later(Kind.SUBMISSION_WAITING, key, using=using)
+        queue.later(Kind.SUBMISSION_WAITING, key, using=using)
     elif instance.meaning == Meaning.REVIEWED:
-        notify.later(Kind.APPROVAL_WAITING, key, using=using)
+        queue.later(Kind.APPROVAL_WAITING, key, using=using)
     elif instance.meaning == Meaning.APPROVED:
         revalidation.schedule_for(revision=revision, signed_at=instance.signed_at, using=using)
         changes.close_on_approval(revision=revision, signed_at=instance.signed_at, using=using)
 
 
 def _finding_saved(sender, instance, using="default", **kwargs) -> None:
-    from hazards.oversight import notify
+    from hazards.oversight import notify, queue
     from hazards.oversight.models import Kind
     from hazards.review.models import FindingStatus
 
     if instance.status == FindingStatus.OPEN:
         # The key names the owner (the recipient), so a new owner is told once as well.
-        notify.later(Kind.FINDING_ASSIGNED, notify.key_of(instance), using=using)
+        queue.later(Kind.FINDING_ASSIGNED, notify.key_of(instance), using=using)
 
 
 def _site_saved(sender, instance, created, using="default", **kwargs) -> None:

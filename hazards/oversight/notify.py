@@ -44,21 +44,6 @@ def key_of(obj) -> str:
     return f"{obj._meta.label_lower}:{obj.pk}"
 
 
-def later(kind: str, object_key: str, period: str = "", *, using: str = "default") -> None:
-    """Deliver a notification in the background once this transaction commits."""
-    def enqueue():
-        from hazards.oversight.tasks import deliver
-
-        deliver.enqueue(kind, object_key, period)
-
-    transaction.on_commit(enqueue, using=using, robust=True)
-
-
-def approval_lapsed_later(revision_ids, *, using: str = "default") -> None:
-    for revision_id in sorted(revision_ids):
-        later(Kind.APPROVAL_LAPSED, f"review.processrevision:{revision_id}", using=using)
-
-
 def _people_with_roles(process_id: int, roles, exclude=()) -> list:
     from hazards.review.models import ProcessRole
 
@@ -140,8 +125,8 @@ def _revalidation_notice(schedule, period) -> Notice | None:
 
 
 def _lapsed_notice(revision) -> Notice | None:
-    from hazards.oversight.changes import describe
     from hazards.oversight.models import ChangeRecord
+    from hazards.oversight.readable import describe
 
     process = revision.process
     records = list(ChangeRecord.objects.filter(approved_revision=revision).order_by("pk"))

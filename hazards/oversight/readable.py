@@ -3,12 +3,13 @@ values in display units, people by their printed name; never SI key suffixes or 
 
 from __future__ import annotations
 
-from hazards.fieldkinds import QUANTITY_FIELDS
+from hazards.fieldkinds import INDICATOR_KINDS, LABELS, QUANTITY_FIELDS
+from hazards.oversight.models import ChangeRecord
+from hazards.quantities import quantity_text
 from hazards.review.selectors import INDICATOR_NAMES
 from hazards.review.signing import printed_name
-from hazards.web import display
-from hazards.web.diff import INDICATOR_KINDS
-from hazards.web.forms import LABELS
+
+NO_REASON = "(no reason was given)"
 
 # Any model's field name -> its quantity kind (the names do not clash across models).
 _KINDS = {name: kind for fields in QUANTITY_FIELDS.values() for name, kind in fields.items()}
@@ -43,7 +44,7 @@ def value(key: str, raw) -> str:
     if isinstance(raw, bool):
         return "yes" if raw else "no"
     if isinstance(raw, int | float):
-        return display.quantity(raw, kind)
+        return quantity_text(raw, kind)
     if isinstance(raw, list | dict):
         return f"{len(raw)} item(s)"
     return str(raw)
@@ -75,3 +76,16 @@ def person(user) -> str:
 
 def sentence(changes: dict) -> str:
     return "; ".join(f"{r['label']}: {r['old']} → {r['new']}" for r in rows(changes))
+
+
+def describe(record: ChangeRecord) -> str:
+    """One paragraph people can read: what changed, which indicators moved, the class."""
+    changed = sentence(record.changes)
+    moved = [label(k) for k, v in record.indicators.items() if v.get("beyond_tolerance")]
+    text = "Changed: " + (changed or "back to the approved inputs") + ". "
+    text += ("Indicators moved beyond tolerance: " + ", ".join(moved) + ". " if moved
+             else "No indicator moved beyond the site's tolerances. ")
+    if record.class_changed:
+        text += f"Criticality class {record.class_before} → {record.class_after}. "
+    text += f"Reason: {record.reason or NO_REASON}."
+    return text

@@ -7,6 +7,10 @@ import datetime as dt
 from django.db import connection, transaction
 from django.utils import timezone
 from django_tasks import default_task_backend, task
+from django_tasks_db.models import DBTaskResult
+
+from hazards.oversight.notify import deliver_now
+from hazards.oversight.services import refresh_and_remind
 
 # The periodic refresh runs once a day at this hour (UTC).
 DAILY_AT_HOUR = 5
@@ -17,8 +21,6 @@ SCHEDULE_LOCK = 21_0009
 @task()
 def deliver(kind: str, object_key: str, period: str = "") -> int:
     """Write and e-mail the notifications of one idempotency key; returns how many were new."""
-    from hazards.oversight.notify import deliver_now
-
     return len(deliver_now(kind, object_key, period))
 
 
@@ -32,8 +34,6 @@ def schedule_next(now: dt.datetime | None = None) -> bool:
     cannot defer, as in tests). Returns whether one was queued."""
     if not default_task_backend.supports_defer:
         return False
-    from django_tasks_db.models import DBTaskResult
-
     with transaction.atomic():
         # Several workers may start at once: one at a time checks and queues.
         with connection.cursor() as cursor:
@@ -49,8 +49,6 @@ def schedule_next(now: dt.datetime | None = None) -> bool:
 @task()
 def refresh_daily() -> dict:
     """Refresh due dates and send the reminders of today, then queue tomorrow's run."""
-    from hazards.oversight.services import refresh_and_remind
-
     result = refresh_and_remind()
     schedule_next()
     return result

@@ -12,7 +12,7 @@ from django.http import Http404, HttpResponse
 from django.shortcuts import get_object_or_404, redirect, render
 from django.views.decorators.http import require_POST
 
-from hazards.fieldkinds import kinds_for
+from hazards.fieldkinds import LABELS, kinds_for
 from hazards.models import Process
 from hazards.review import history
 from hazards.review.access import (
@@ -25,7 +25,6 @@ from hazards.review.access import (
 from hazards.review.models import Role
 from hazards.web import display
 from hazards.web.common import visible_or_404
-from hazards.web.forms import LABELS
 from hazards.web.paging import ListPage, link
 
 ONLY_AUDITORS = "Only auditors and administrators run the integrity check."

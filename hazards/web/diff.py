@@ -4,19 +4,13 @@ from __future__ import annotations
 
 import re
 
-from hazards.fieldkinds import QUANTITY_FIELDS
+from hazards.fieldkinds import INDICATOR_KINDS, LABELS, QUANTITY_FIELDS
 from hazards.web import display
-from hazards.web.forms import LABELS
 
 # Collection in the revision content -> model name in hazards.fieldkinds.
 COLLECTIONS = {"steps": "reactionstep", "calorimetry_runs": "calorimetryrun",
                "decomposition_tests": "decompositiontest", "peaks": "decompositionpeak",
                "series": "calorimetryseries", "process": "process", "measures": "measure"}
-INDICATOR_KINDS = {"mtsr_k": "temperature", "mtt_k": "temperature", "td24_k": "temperature",
-                   "adiabatic_temperature_rise_k": "temperature_difference",
-                   "tmr_ad_at_mtsr_s": "duration_h", "cooling_capacity_w": "power",
-                   "plant_peak_heat_release_w": "power", "minimum_dosing_time_s": "time",
-                   "mtsr_time_s": "time", "end_pressure_pa": "pressure"}
 WHERE = {"steps": "step", "calorimetry_runs": "calorimetry run",
          "decomposition_tests": "decomposition test", "peaks": "DSC peak", "series": "series",
          "measures": "protective measure"}

@@ -2,23 +2,9 @@
 
 from __future__ import annotations
 
+from hazards import quantities
 from hazards.fieldkinds import kinds_for
-from hazards.quantities import DISPLAY_DIGITS, SPECS, format_number, from_si
-
-# Units as people read them (the API keeps pint's spelling).
-HUMAN_UNIT = {
-    "degC": "°C",
-    "kJ/(kg*K)": "kJ/(kg·K)",
-    "W/(m**2*K)": "W/(m²·K)",
-    "m**3": "m³",
-    "m**2": "m²",
-    "dimensionless": "",
-}
-
-
-def human_unit(kind: str) -> str:
-    unit = SPECS[kind].canonical_unit
-    return HUMAN_UNIT.get(unit, unit)
+from hazards.quantities import DISPLAY_DIGITS, format_number
 
 
 def number(value, digits: int = DISPLAY_DIGITS) -> str:
@@ -27,18 +13,14 @@ def number(value, digits: int = DISPLAY_DIGITS) -> str:
     return format_number(value, digits)
 
 
+def human_unit(kind: str) -> str:
+    return quantities.human_unit(kind)
+
+
 def quantity(si_value, kind: str | None) -> str:
-    """An SI magnitude written in the field's canonical unit, e.g. '45 °C'."""
-    if si_value is None:
-        return "—"
-    if kind is None:
-        return number(si_value)
-    if kind == "mass" and 0 < abs(si_value) < 1:  # lab masses read better in g or mg
-        grams = float(si_value) * 1000
-        return f"{number(grams)} g" if abs(grams) >= 1 else f"{number(grams * 1000)} mg"
-    shown = from_si(float(si_value), kind=kind)
-    unit = human_unit(kind)
-    return f"{number(shown)} {unit}".strip()
+    """An SI magnitude written in the field's canonical unit, e.g. '45 °C'
+    (`hazards.quantities.quantity_text`: one rule for pages, notifications and dossier)."""
+    return quantities.quantity_text(si_value, kind)
 
 
 def field_kind(model, field_name: str) -> str | None:

@@ -10,6 +10,7 @@ from pathlib import Path
 
 from django.core.cache import caches
 
+from hazards.fieldkinds import LABELS
 from hazards.models import (
     CalorimetryRun,
     CalorimetrySeries,
@@ -20,7 +21,6 @@ from hazards.models import (
 )
 from hazards.review.selectors import record_history
 from hazards.web import display
-from hazards.web.forms import LABELS
 
 try:  # the dossier's labels, so a page and its dossier say the same thing
     from hazards.dossier.view import method_label, parameter_row
