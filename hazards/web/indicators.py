@@ -112,6 +112,10 @@ SKIP = {"id", "created_at", "updated_at", "version", "needs_review", "approved_i
         "solvent_id", "vessel_id", "tag"}
 
 
+_FROM_CURVES = ("onset_temperature_k", "decomposition_energy_j_per_kg", "heating_rate_k_per_s",
+                "phi_factor", "activation_energy_j_per_mol")
+
+
 def input_rows(obj, *, provenance_note: str = "") -> list[dict]:
     """Every stored input of a record with its unit and where it came from."""
     if obj is None:
@@ -122,6 +126,8 @@ def input_rows(obj, *, provenance_note: str = "") -> list[dict]:
         series = CalorimetrySeries.objects.filter(run=obj).only("file_name", "sha256").first()
     rows = []
     for field in obj._meta.concrete_fields:
+        if field.attname == "kinetics":  # summarised under the measurements, charts above
+            continue
         if field.attname in SKIP or field.attname.startswith("antoine_") and isinstance(
                 obj, Solvent) and getattr(obj, field.attname) in (None, ""):
             continue
@@ -140,6 +146,11 @@ def input_rows(obj, *, provenance_note: str = "") -> list[dict]:
         if series is not None and field.attname in ("specific_reaction_heat_j_per_kg",
                                                     "max_accumulation"):
             source = f"derived from calorimeter file {series.file_name} (SHA-256 {series.sha256[:12]}…)"
+        derived = (getattr(obj, "kinetics", None) or {}).get("files_sha256")
+        if derived and field.attname in _FROM_CURVES and (
+                field.attname != "activation_energy_j_per_mol"
+                or obj.kinetics.get("activation_energy_source") == "curve"):
+            source = f"derived from {len(derived)} curve file{'s' if len(derived) > 1 else ''}"
         rows.append({
             "field": field.attname,
             "label": LABELS.get(field.attname, field.verbose_name.capitalize()),

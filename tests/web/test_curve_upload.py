@@ -106,3 +106,5 @@ def test_an_adiabatic_run_is_previewed_with_its_figures_then_stored_on_confirmat
     assert curve.derived["gas"]["mol_per_kg"] > 0
     page = client.get(f"/steps/{step.pk}/").content.decode()
     assert "Adiabatic runs: self-heat rate, measured and φ-corrected" in page
+    # the test's onset, φ and E are marked as derived; its kinetics JSON is not dumped raw
+    assert "derived from 1 curve file" in page and "files_sha256" not in page
