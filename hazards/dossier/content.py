@@ -324,6 +324,9 @@ def dossier_content(process: Process, revision=None) -> dict:
         "record_date": max(record_dates) if record_dates else "2000-01-01T00:00:00Z",
         "software": library_versions(DOSSIER_LIBRARIES),
     }
+    accepted = review_bridge.risk_acceptances(revision)
+    if accepted:  # only where there are some: other dossiers keep their context shape
+        context["risk_acceptances"] = accepted
     return {"record": record, "context": context}
 
 

@@ -73,6 +73,17 @@ def revision_info(revision) -> dict:
     }
 
 
+def risk_acceptances(revision) -> list[dict]:
+    """The approver's signed risk acceptances of unmet required measures on `revision`."""
+    RiskAcceptance = _model("RiskAcceptance")
+    if RiskAcceptance is None or revision is None:
+        return []
+    return [{"printed_name": a.printed_name, "signed_at": _iso(a.signed_at),
+             "step": a.step_id, "requirement": a.requirement, "reason": a.reason,
+             "content_sha256": a.content_sha256, "seal": a.seal}
+            for a in RiskAcceptance.objects.filter(revision=revision).order_by("signed_at", "pk")]
+
+
 def signatures(revision) -> list[dict]:
     Signature = _model("Signature")
     if Signature is None:

@@ -6,6 +6,7 @@ import datetime as dt
 import re
 
 from calcs.constants import T_ZERO_C
+from hazards.models.measures import MeasureKind, MeasureStatus
 from hazards.quantities import format_number
 
 # SI key -> (label, display unit, SI -> display)
@@ -345,7 +346,31 @@ def _step(step: dict, context: dict) -> dict:
                                     in (snap.get("libraries") or {}).items()
                                     if name not in ("calcs",)),
         "no_snapshot": not snap,
+        "measures": _measures_view(step, values),
     }
+
+
+_KINDS = dict(MeasureKind.choices)
+_STATUSES = dict(MeasureStatus.choices)
+
+
+def _measures_view(step: dict, values: dict) -> list[dict]:
+    """Each protective measure of the step as frozen, with its barrier checks and inputs."""
+    checks = values.get("barrier_checks") or []
+    out = []
+    for m in step.get("measures") or []:
+        out.append({
+            "kind": _KINDS.get(m.get("kind"), m.get("kind")), "acts_on": m.get("acts_on"),
+            "status": _STATUSES.get(m.get("status"), m.get("status")),
+            "due_date": m.get("due_date"), "evidence": m.get("evidence_reference") or "",
+            "test_date": m.get("test_date") or "",
+            "checks": [{**c, "shown": [
+                (k.replace("_", " "), "—" if v.get("value") is None
+                 else f"{format_number(v['value'])} {v.get('unit') or ''}".strip())
+                for k, v in (c.get("numbers") or {}).items()]}
+                for c in checks if c.get("measure") == m.get("id")],
+        })
+    return out
 
 
 def dossier_view(content: dict, meta) -> dict:
@@ -364,6 +389,8 @@ def dossier_view(content: dict, meta) -> dict:
         "status_text": revision["state_label"] if revision else "not submitted for review",
         "signatures": signatures,
         "findings": context.get("findings", []),
+        "risk_acceptances": [{**a, "signed_at_text": when(a.get("signed_at"))}
+                             for a in context.get("risk_acceptances", [])],
         "history": history,
         "last_approved": context.get("last_approved"),
         "audit_head_hash": context.get("audit_head_hash"),

@@ -233,3 +233,31 @@ def test_the_change_comparison_lists_a_measure_that_moved(strict_site, author, r
     [row] = [r for r in rows if r["label"] == "status"]
     assert (row["where"], row["from"], row["to"]) == (
         f"step {step.pk}, protective measure {m.pk}", "proposed", "in_place")
+
+
+def test_the_dossier_prints_the_measures_their_checks_and_the_signed_acceptance(
+        strict_site, author, reviewer, approver):
+    from hazards.dossier.content import dossier_content
+    from hazards.dossier.render import DossierMeta, build_pages
+
+    step = strict_site.steps.get()
+    svc.measure_create(step=step, data={
+        "kind": "quench", "acts_on": "quench tank T-12", "owner": author,
+        "due_date": dt.date(2027, 1, 31), "response_time_s": 240.0})
+    revision = checked(strict_site, author, reviewer)
+    [unmet] = unmet_requirements(content=revision.content, site_id=strict_site.site_id)
+    acceptances.risk_accept(
+        revision=revision, step_id=unmet["step"], requirement_key=unmet["key"],
+        reason="Two supervised batches while the redesign is built.", user=approver,
+        password=PASSWORD, request=signing_request(approver))
+    sign(revision, approver, "approved")
+    revision.refresh_from_db()
+    content = dossier_content(strict_site, revision)
+    assert content["context"]["risk_acceptances"][0]["reason"].startswith("Two supervised")
+    meta = DossierMeta(id=1, version=1, process_id=strict_site.pk, created_at="2026-12-04",
+                       content_sha256="0" * 64, context_sha256="0" * 64, seal="")
+    job, _ = build_pages(content, meta)
+    assert "Risk acceptances (signed)" in job.html and "Two supervised batches" in job.html
+    assert "Protective measures and barrier checks" in job.html
+    assert "quench tank T-12" in job.html and "Time for the emergency measure" in job.html
+    assert "response time 240 s" in job.html
