@@ -3,17 +3,20 @@ and the dossiers of a process (request, status, download, check a PDF)."""
 
 from __future__ import annotations
 
+import datetime as dt
+
 from django import forms
 from django.apps import apps
 from django.contrib import messages
+from django.contrib.auth import get_user_model
 from django.contrib.auth.decorators import login_required
-from django.core.exceptions import PermissionDenied
+from django.core.exceptions import FieldDoesNotExist, PermissionDenied
 from django.http import Http404, HttpResponse
 from django.shortcuts import get_object_or_404, redirect, render
 from django.views.decorators.http import require_POST
 
 from hazards.fieldkinds import LABELS, kinds_for
-from hazards.models import Process
+from hazards.models import Process, ReactionStep
 from hazards.review import history
 from hazards.review.access import (
     PROCESS_PATHS,
@@ -22,7 +25,7 @@ from hazards.review.access import (
     processes_of,
     visible,
 )
-from hazards.review.models import Role
+from hazards.review.models import ProcessRevision, Role
 from hazards.web import display
 from hazards.web.common import visible_or_404
 from hazards.web.paging import ListPage, link
@@ -30,22 +33,93 @@ from hazards.web.paging import ListPage, link
 ONLY_AUDITORS = "Only auditors and administrators run the integrity check."
 
 
+# Foreign keys to people, shown by name; keys that only repeat the row's own context.
+PERSON_FIELDS = {"actor_id", "signer_id", "created_by_id", "user_id", "owner_id", "raised_by_id",
+                 "granted_by_id", "revoked_by_id", "requested_by_id", "closed_by_id"}
+CONTEXT_FIELDS = {"id", "process_id", "revision_id", "step_id", "run_id", "test_id",
+                  "signature_id"}
+
+
+def _people(rows) -> dict:
+    ids = {change[k] for row in rows for f, change in row["changes"].items()
+           if f in PERSON_FIELDS for k in ("from", "to") if isinstance(change[k], int)}
+    users = get_user_model().objects.filter(pk__in=ids)
+    return {u.pk: u.get_full_name() or u.get_username() for u in users}
+
+
+def _record_labels(rows) -> dict:
+    """(model label, object id) -> how the pages name the record: "step 1. Charge",
+    "revision 2"; one query per kind of record on the page."""
+    wanted: dict[str, set] = {}
+    for row in rows:
+        wanted.setdefault(row["model"], set()).add(row["object_id"])
+    labels = {}
+    for pk, seq, name in ReactionStep._base_manager.filter(
+            pk__in=wanted.get("hazards.ReactionStep", ())).values_list("pk", "sequence", "name"):
+        labels[("hazards.ReactionStep", pk)] = f"step {seq}. {name}"
+    for pk, number in ProcessRevision.objects.filter(
+            pk__in=wanted.get("review.ProcessRevision", ())).values_list("pk", "number"):
+        labels[("review.ProcessRevision", pk)] = f"revision {number}"
+    return labels
+
+
+def content_words(value) -> str:
+    """A revision's frozen content in words: its steps by name and what each holds."""
+    steps = value.get("steps") or []
+    parts = []
+    for step in steps:
+        runs = len(step.get("calorimetry_runs") or [])
+        tests = len(step.get("decomposition_tests") or [])
+        parts.append(f"step {step.get('sequence')}. {step.get('name')} ({runs} calorimetry "
+                     f"run{'s' if runs != 1 else ''}, {tests} decomposition "
+                     f"test{'s' if tests != 1 else ''})")
+    return ("the frozen content: " + "; ".join(parts)) if parts else "the frozen content (no step)"
+
+
+def _words(model, field: str, value, people: dict):
+    if value in (None, ""):
+        return "—"
+    if field in PERSON_FIELDS:
+        return people.get(value, "a person no longer on record")
+    try:
+        choices = dict(model._meta.get_field(field).choices or ())
+    except FieldDoesNotExist:
+        choices = {}
+    if isinstance(value, str | int) and value in choices:
+        return str(choices[value])
+    if isinstance(value, dict) and "steps" in value:
+        return content_words(value)
+    if isinstance(value, dict):
+        return f"{len(value)} value{'s' if len(value) != 1 else ''}"
+    if isinstance(value, list):
+        return f"{len(value)} item{'s' if len(value) != 1 else ''}"
+    if isinstance(value, dt.datetime):  # the trail's timestamps, to the second, in UTC
+        return value.astimezone(dt.UTC).strftime("%Y-%m-%d %H:%M:%S UTC")
+    return _plain(value)
+
+
 def _rows_for_people(rows):
+    people, labels = _people(rows), _record_labels(rows)
     out = []
     for row in rows:
         model = apps.get_model(row["model"])
         kinds = kinds_for(model)
         changes = []
         for field, change in row["changes"].items():
+            if field in CONTEXT_FIELDS:
+                continue
             kind = kinds.get(field.removesuffix("_id"))
+            name = field.removesuffix("_id") if field in PERSON_FIELDS else field
             changes.append({
-                "field": LABELS.get(field, field.replace("_", " ")),
+                "field": LABELS.get(field, name.replace("_", " ")),
                 "from": display.quantity(change["from"], kind) if kind and isinstance(
-                    change["from"], int | float) else _plain(change["from"]),
+                    change["from"], int | float) else _words(model, field, change["from"], people),
                 "to": display.quantity(change["to"], kind) if kind and isinstance(
-                    change["to"], int | float) else _plain(change["to"]),
+                    change["to"], int | float) else _words(model, field, change["to"], people),
             })
-        out.append({**row, "model_name": model._meta.verbose_name, "changes": changes})
+        out.append({**row, "model_name": model._meta.verbose_name, "changes": changes,
+                    "record": labels.get((row["model"], row["object_id"]),
+                                         model._meta.verbose_name)})
     return out
 
 

@@ -5,7 +5,9 @@ from __future__ import annotations
 import re
 
 from hazards.fieldkinds import INDICATOR_KINDS, LABELS, QUANTITY_FIELDS
+from hazards.review.selectors import INDICATOR_NAMES, indicator_differences
 from hazards.web import display
+from hazards.web.indicators import parameter_row
 
 # Collection in the revision content -> model name in hazards.fieldkinds.
 COLLECTIONS = {"steps": "reactionstep", "calorimetry_runs": "calorimetryrun",
@@ -25,7 +27,46 @@ def _show(value, kind):
     return "—" if value in (None, "") else str(value)
 
 
-def humanise_diff(rows: list[dict]) -> list[dict]:
+def record_names(*contents: dict | None) -> dict[tuple[str, str], str]:
+    """(collection, id) -> the name the pages give that record ("step 2. Quench",
+    "calorimetry run 1 (2026-05-02)"), read from revision contents (the later content wins,
+    so a renamed step carries its new name); never a database id."""
+    names: dict[tuple[str, str], str] = {}
+
+    def dated(kind, n, item, date_key):
+        extra = [v for v in (item.get("method"), item.get(date_key)) if v]
+        return f"{kind} {n}" + (f" ({', '.join(str(v) for v in extra)})" if extra else "")
+
+    for content in contents:
+        for step in (content or {}).get("steps") or []:
+            label = f"step {step.get('sequence')}. {step.get('name')}"
+            names[("steps", str(step.get("id")))] = label
+            for n, run in enumerate(step.get("calorimetry_runs") or [], start=1):
+                names[("calorimetry_runs", str(run.get("id")))] = dated(
+                    "calorimetry run", n, run, "run_date")
+                series = run.get("series")
+                if isinstance(series, dict) and "id" in series:
+                    names[("series", str(series["id"]))] = "series"
+            for n, measure in enumerate(step.get("measures") or [], start=1):
+                kind = str(measure.get("kind") or "").replace("_", " ")
+                names[("measures", str(measure.get("id")))] = (
+                    f"protective measure {n}" + (f" ({kind})" if kind else ""))
+            for n, test in enumerate(step.get("decomposition_tests") or [], start=1):
+                names[("decomposition_tests", str(test.get("id")))] = dated(
+                    "decomposition test", n, test, "test_date")
+                for m, peak in enumerate(test.get("peaks") or [], start=1):
+                    names[("peaks", str(peak.get("id")))] = f"peak {m}"
+    return names
+
+
+def _texts(value) -> bool:
+    return isinstance(value, list) and all(isinstance(v, str) for v in value)
+
+
+def humanise_diff(rows: list[dict], names: dict | None = None) -> list[dict]:
+    """Content differences as labelled rows in display units; `names` (from `record_names`)
+    names each record as the pages do instead of by its id."""
+    names = names or {}
     out = []
     for row in rows:
         parts = row["path"].split(".")
@@ -39,12 +80,32 @@ def humanise_diff(rows: list[dict]) -> list[dict]:
             if name in COLLECTIONS:
                 model = COLLECTIONS[name]
                 if name in WHERE:
-                    where.append(f"{WHERE[name]} {ident}" if ident else WHERE[name])
+                    where.append(names.get((name, ident)) or (
+                        f"{WHERE[name]} {ident}" if ident else WHERE[name]))
         if in_indicators:
             if field in ("inputs_hash", "computed_at") or "inputs" in parts:
                 continue  # the inputs themselves are listed as their own rows
+            if "parameters" in parts:
+                before, after = (parameter_row(field, row[k]) if row[k] is not None else None
+                                 for k in ("from", "to"))
+                shown = [f"{r['value']} {r['unit']}".strip() if r else "—"
+                         for r in (before, after)]
+                out.append({"where": ", ".join(where) or "process",
+                            "label": (before or after)["label"], "change": row["change"],
+                            "from": shown[0], "to": shown[1], "path": row["path"]})
+                continue
+            if _texts(row["from"]) and _texts(row["to"]):
+                gone = [w for w in row["from"] if w not in row["to"]]
+                new = [w for w in row["to"] if w not in row["from"]]
+                out.append({"where": ", ".join(where) or "process",
+                            "label": field.replace("_", " ") + " (only in one revision)",
+                            "change": row["change"], "from": " · ".join(gone) or "—",
+                            "to": " · ".join(new) or "—", "path": row["path"],
+                            "from_list": gone, "to_list": new})
+                continue
             kind = INDICATOR_KINDS.get(field)
-            label = f"indicator {field}"
+            label = ("class" if field == "criticality_class"
+                     else INDICATOR_NAMES.get(field, field.replace("_", " ")))
         else:
             kind = QUANTITY_FIELDS.get(model or "", {}).get(field)
             label = LABELS.get(field, field.replace("_", " "))
@@ -62,8 +123,6 @@ FIRST = "The indicators were computed for the first time."
 def indicator_change_text(before: dict | None, after: dict | None) -> str:
     """One sentence: which indicators (and the class) moved from `before` to `after`, each a
     current snapshot as {"values", "criticality_class"} or None, in display units."""
-    from hazards.review.selectors import INDICATOR_NAMES
-
     if after is None and before is None:
         return UNCHANGED
     if before is None:
@@ -86,3 +145,29 @@ def _indicator(value, kind) -> str:
     if isinstance(value, int | float) and not isinstance(value, bool):
         return display.quantity(value, kind)
     return _show(value, kind)
+
+
+def revision_summary(old: dict, new: dict) -> list[dict]:
+    """Per step whose class or indicators differ between two revision contents: its name as
+    the pages give it, whether it was added or removed, and each changed indicator with
+    both values in display units."""
+    out = []
+    for row in indicator_differences(old, new):
+        items = [{"name": INDICATOR_NAMES.get(key, key.replace("_", " ")),
+                  "from": _indicator(v["approved"], INDICATOR_KINDS.get(key)),
+                  "to": _indicator(v["current"], INDICATOR_KINDS.get(key))}
+                 for key, v in row["indicators"].items()]
+        klass = row.get("class")
+        out.append({"step": row["step"][:1].upper() + row["step"][1:], "change": row["change"],
+                    "class_from": klass["approved"] if klass else None,
+                    "class_to": klass["current"] if klass else None,
+                    "class_changed": klass is not None, "items": items})
+    return out
+
+
+def grouped(rows: list[dict]) -> list[dict]:
+    """Humanised rows grouped by the record they belong to, in order of first appearance."""
+    groups: dict[str, list] = {}
+    for row in rows:
+        groups.setdefault(row["where"], []).append(row)
+    return [{"where": where, "rows": items} for where, items in groups.items()]

@@ -39,7 +39,7 @@ from hazards.review.services import findings as finding_services
 from hazards.review.services import revisions as rev
 from hazards.review.signing import printed_name
 from hazards.web.common import visible_or_404
-from hazards.web.diff import humanise_diff
+from hazards.web.diff import humanise_diff, record_names
 from hazards.web.measures import endorsement_blocks
 
 # The signature the next step of a revision needs: state -> (meaning, role).
@@ -176,7 +176,8 @@ def _review_context(request, process, revision, **extra):
     baseline = last_approved(process, exclude=revision) if revision else None
     diff = None
     if revision is not None and baseline is not None:
-        diff = humanise_diff(content_diff(baseline.content, revision.content))
+        diff = humanise_diff(content_diff(baseline.content, revision.content),
+                             record_names(baseline.content, revision.content))
     user = request.user
     light = on_light_path(revision)
     context = {

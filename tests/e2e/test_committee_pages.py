@@ -43,3 +43,26 @@ def test_the_portfolio_filters_exports_and_fits_the_screen(world, live_server, p
         page.get_by_role("link", name="spreadsheet (.xlsx)").click()
     assert download.value.suggested_filename.endswith(".xlsx")
     shoot_and_check(page, "portfolio")
+
+
+def test_two_revisions_are_compared_with_a_summary_first(world, live_server, page):
+    from hazards.review.services import revisions
+    from hazards.services.records import record_update
+    from tests.web.conftest import sign
+
+    people, process, step = world["people"], world["process"], world["step"]
+    first = revisions.revision_open(process=process, user=people["author"])
+    for who, meaning in (("author", "authored"), ("reviewer", "reviewed"),
+                         ("approver", "approved")):
+        sign(first, people[who], meaning)
+        first.refresh_from_db()
+    revisions.revision_open(process=process, user=people["author"], reason="revalidation")
+    step.refresh_from_db()
+    record_update(instance=step, data={"process_temperature_k": step.process_temperature_k + 10})
+    sign_in(page, live_server.url, "reviewer")
+    page.goto(f"{live_server.url}/processes/{process.pk}/")
+    page.get_by_role("link", name="Every revision, and a comparison of any two").click()
+    expect(page.locator("#h-summary")).to_contain_text("revision 1 → revision 2")
+    expect(page.locator("main")).to_contain_text("Step 1. Charge and dissolve")
+    assert axe_violations(page) == []
+    shoot_and_check(page, "revision-compare")
