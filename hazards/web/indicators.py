@@ -217,6 +217,15 @@ def _draw(snapshot, series_data: dict | None) -> list[dict]:
     return out
 
 
+def kinetics_parameters(test) -> list[dict]:
+    """The chosen model's parameters with their standard uncertainties (fit and scans)."""
+    k = (test.kinetics or {}) if test is not None else {}
+    fit = (k.get("fits") or {}).get(k.get("model")) or {}
+    return [{"name": name.replace("_", " "), "value": display.number(p["value"]),
+             "stderr": display.number(p["stderr"]), "unit": p["unit"]}
+            for name, p in (fit.get("parameters") or {}).items()]
+
+
 def decomposition_chart_images(test) -> list[dict]:
     """The evidence of a test's curves (scans with baselines and fit, E(α)) as images."""
     from hazards.dossier.decomposition_charts import (

@@ -115,6 +115,7 @@ def step_detail(request, pk):
             f"{series.file_name}" if series else "")) + indicators.decomposition_chart_images(
                 basis_test),
         "kinetics": (basis_test.kinetics or {}) if basis_test else {},
+        "kinetics_parameters": indicators.kinetics_parameters(basis_test),
         "history": history, "can_edit": can_edit(request.user, step),
         "can_edit_reference": is_administrator(request.user),
         "shows_indicators": True,

@@ -55,6 +55,9 @@ def test_four_scans_uploaded_in_the_browser_give_onset_energy_kinetics_and_td24(
     assert re.search(r"onset [\d.]+ °C, energy [\d.]+ kJ/kg, .*4 curves", body)
     assert "Chosen model: autocatalytic" in body
     assert "Autocatalysis screen: autocatalytic" in body
+    # the kinetics with their uncertainty (fit and scan-to-scan jackknife)
+    e = re.search(r"activation energy j per mol = ([\d.]+) ± ([\d.]+) J/mol", body)
+    assert float(e.group(1)) == pytest.approx(130e3, rel=0.05) and float(e.group(2)) > 0
     expect(page.locator("img[alt*='DSC scans']").or_(
         page.get_by_text("DSC scans with baselines and the fitted model")).first).to_be_visible()
     snap = IndicatorSnapshot.objects.get(step=step, is_current=True)
