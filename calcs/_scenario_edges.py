@@ -1,15 +1,11 @@
 """Edge steps of :func:`calcs.scenario.assess_step`: an entered accumulation on the mass
 present, and the extrapolation distance of TD24/TMRad (private; ``c`` is
-:class:`calcs._scenario_steps._Ctx`)."""
+:class:`calcs._scenario_context._Ctx`)."""
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
-
+from calcs._scenario_context import _Ctx
 from calcs.semibatch import mass_basis_accumulation, rate_constant_from_accumulation
-
-if TYPE_CHECKING:
-    from calcs._scenario_steps import _Ctx
 
 
 def _mtsr_from_entered_accumulation(c: _Ctx, tp: float, dt: float) -> None:

@@ -3,13 +3,12 @@
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
-from typing import Any
 
 import numpy as np
 
 from calcs import criticality as crit
 from calcs._scenario_barriers import barrier_checks
+from calcs._scenario_context import _Ctx
 from calcs._scenario_edges import _extrapolation, _mtsr_from_entered_accumulation
 from calcs._scenario_kinetics import kinetic_td24, kinetic_tmr_at_mtsr
 from calcs._scenario_vessel import _cooling, _end_pressure, _mtt, _solvent
@@ -27,39 +26,12 @@ from calcs.errors import (
 from calcs.kinetics import kissinger
 from calcs.phi import corrected_onset_temperature
 from calcs.plausibility import unit_slip_warnings
-from calcs.scenario import Assessment, AssessmentSettings, StepInputs
+from calcs.scenario_types import Assessment, AssessmentSettings, StepInputs
 from calcs.tmr import td24, td_refusal, tmr_zero_order_at
-from calcs.vapour import (
-    AntoineInputs,
-)
 
 NO_DECOMPOSITION = "no decomposition data: TD24 unknown, no class can be assigned"
 NO_CALORIMETRY = "no calorimetry run: adiabatic temperature rise unknown"
 TD24_BELOW_TP = "TD24 at or below the process temperature"
-
-
-@dataclass
-class _Ctx:
-    s: StepInputs
-    cfg: AssessmentSettings
-    out: dict[str, Any] = field(default_factory=dict)
-    warnings: list[str] = field(default_factory=list)
-    methods: dict[str, str] = field(default_factory=dict)
-    parameters: dict[str, Any] = field(default_factory=dict)
-    refs: list[str] = field(default_factory=list)
-    q_model: tuple[float, float, float] | None = None  # (E_a, T_ref, q_ref)
-    antoine: AntoineInputs | None = None
-    specific_heat: float | None = None
-    series_peak_w_per_kg: float | None = None
-    lowest_measured_k: float | None = None  # lowest temperature the decomposition data saw
-    kinetics: Any = None  # the fitted decomposition model TD24 came from, if any
-
-    def ref(self, *keys: str) -> None:
-        self.refs.extend(k for k in keys if k not in self.refs)
-
-    def warn(self, text: str | None) -> None:
-        if text and text not in self.warnings:
-            self.warnings.append(text)
 
 
 def run(s: StepInputs, cfg: AssessmentSettings) -> Assessment:

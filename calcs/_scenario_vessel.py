@@ -1,12 +1,11 @@
 """Vessel-side steps of :func:`calcs.scenario.assess_step`: solvent, MTT, cooling, end pressure.
 
-Private; the context object ``c`` is :class:`calcs._scenario_steps._Ctx`.
+Private; the context object ``c`` is :class:`calcs._scenario_context._Ctx`.
 """
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
-
+from calcs._scenario_context import _Ctx
 from calcs.cooling import cooling_capacity
 from calcs.pressure import closed_vessel_mtt, closed_vessel_pressure
 from calcs.vapour import (
@@ -15,9 +14,6 @@ from calcs.vapour import (
     antoine_vapour_pressure,
     extrapolation_warning,
 )
-
-if TYPE_CHECKING:
-    from calcs._scenario_steps import _Ctx
 
 
 def _solvent(c: _Ctx) -> None:
