@@ -166,6 +166,7 @@ class Kind(models.TextChoices):
     FINDING_DUE = "finding_due", "A finding you own falls due"
     REVALIDATION_DUE = "revalidation_due", "An approval falls due for revalidation"
     APPROVAL_LAPSED = "approval_lapsed", "An approval no longer holds"
+    MEASURE_DUE = "measure_due", "A protective measure you own falls due"
 
 
 class Notification(models.Model):

@@ -17,7 +17,10 @@ from django.core.mail import send_mail
 from django.db import IntegrityError, transaction
 from django.utils import timezone
 
+from hazards.models import Measure, MeasurePolicy, MeasureStatus
+from hazards.oversight.dates import OVERDUE, due_state
 from hazards.oversight.models import Kind, Notification, NotificationPreference
+from hazards.review.access import roles_on
 
 CAUTION = ("Exoledger supports and does not replace a qualified assessment; local codes, "
            "company standards and licensed practice prevail.")
@@ -97,6 +100,23 @@ def _finding_notice(finding, kind, period) -> Notice | None:
                   f"/findings/{finding.pk}/")
 
 
+def _measure_notice(measure, period) -> Notice | None:
+    if measure.status == MeasureStatus.PROVEN:
+        return None
+    step, owner = measure.step, measure.owner
+    process = step.process
+    overdue = period.endswith(":overdue")
+    what = f"{measure.get_kind_display()} on {measure.acts_on}"
+    subject = (f"Protective measure overdue since {measure.due_date:%Y-%m-%d}: {what}"
+               if overdue else f"Protective measure due {measure.due_date:%Y-%m-%d}: {what}")
+    body = (f"The protective measure \u201c{what}\u201d of step {step.sequence}. {step.name} "
+            f"({process.name}) that you own is {measure.get_status_display().lower()} and "
+            f"{'is overdue' if overdue else 'falls due'} ({measure.due_date:%Y-%m-%d}). The "
+            "site's policy may require it proven, with its evidence, before endorsement.")
+    people = [owner] if owner.is_active and roles_on(owner, process.pk) else []
+    return Notice(process, people, subject, body, f"/steps/{step.pk}/#measures")
+
+
 REVALIDATION_TODO = (
     "What to do: on the review page of the process (link below) an author opens a new draft "
     "revision, checks the data and indicators of every step against the plant as it runs now, "
@@ -160,6 +180,8 @@ def build(kind: str, object_key: str, period: str) -> Notice | None:
         return _revalidation_notice(obj, period)
     if kind == Kind.APPROVAL_LAPSED:
         return _lapsed_notice(obj)
+    if kind == Kind.MEASURE_DUE:
+        return _measure_notice(obj, period)
     raise ValueError(f"unknown notification kind {kind!r}")
 
 
@@ -246,4 +268,23 @@ def remind(*, on: dt.date) -> dict:
             continue
         counts["revalidation_due"] += len(deliver_now(Kind.REVALIDATION_DUE, key_of(schedule),
                                                       f"{schedule.due_on}:{stage}"))
+    counts["measure_due"] = _remind_measures(on)
     return counts
+
+
+def _remind_measures(on: dt.date) -> int:
+    """Owners of measures not yet proven, as their due date nears (the site's
+    `MeasurePolicy.reminder_days`) and once overdue."""
+    policies = {p.site_id: p.reminder_days for p in MeasurePolicy.objects.all()}
+    default = MeasurePolicy().reminder_days
+    longest = max([default, *policies.values()])
+    sent = 0
+    for measure in (Measure.objects.exclude(status=MeasureStatus.PROVEN)
+                    .filter(due_date__lte=on + dt.timedelta(days=longest))
+                    .select_related("step__process").order_by("due_date", "pk")):
+        days = policies.get(measure.step.process.site_id, default)
+        stage = due_state(measure.due_date, on, days)
+        if stage in ("due", OVERDUE):
+            sent += len(deliver_now(Kind.MEASURE_DUE, key_of(measure),
+                                    f"{measure.due_date}:{stage}"))
+    return sent
