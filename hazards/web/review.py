@@ -35,6 +35,7 @@ from hazards.review.selectors import (
     credentials_note,
     record_history,
 )
+from hazards.review.services import acceptances
 from hazards.review.services import findings as finding_services
 from hazards.review.services import revisions as rev
 from hazards.review.signing import printed_name
@@ -95,6 +96,16 @@ class SignForm(forms.Form):
         attrs={"autocomplete": "current-password", "required": True}))
     reason = forms.CharField(label="Comment (optional)", required=False, max_length=500,
                              widget=forms.Textarea(attrs={"rows": 2}))
+
+
+class RiskAcceptanceForm(forms.Form):
+    prefix = "accept"
+    step = forms.IntegerField(widget=forms.HiddenInput)
+    requirement_key = forms.CharField(max_length=300, widget=forms.HiddenInput)
+    reason = forms.CharField(label="Why the risk is accepted", max_length=4000,
+                             widget=forms.Textarea(attrs={"rows": 2, "required": True}))
+    password = forms.CharField(label="Your password", strip=False, widget=forms.PasswordInput(
+        attrs={"autocomplete": "current-password", "required": True}))
 
 
 class SendBackForm(forms.Form):
@@ -197,6 +208,9 @@ def _review_context(request, process, revision, **extra):
         "shows_indicators": True,
         "light_path": light,
         "blocks": endorsement_blocks(revision),
+        "can_accept_risk": bool(
+            revision is not None and revision.state in ("lodged", "checked")
+            and Role.APPROVER in roles_on(user, process.pk)),
     }
     if context["actions"]["sign"]:
         context.setdefault("sign_form", SignForm(initial={
@@ -245,6 +259,30 @@ def sign(request, pk):
             request, process, revision, **extra), status=exc.status)
     messages.success(request, f"Signed: {Meaning(form.cleaned_data['meaning']).label}.")
     return redirect("web-review", pk=process.pk)
+
+
+@sensitive_post_parameters("password")
+@login_required
+@require_POST
+def risk_accept(request, pk):
+    """The approver's signed acceptance of one unmet required measure of this revision."""
+    revision = _revision(request, pk)
+    form = RiskAcceptanceForm(request.POST)
+    if not form.is_valid():
+        return render(request, "hazards/review.html", _review_context(
+            request, revision.process, revision, error="A reason and your password are "
+            "needed to sign a risk acceptance."), status=400)
+    try:
+        acceptances.risk_accept(
+            revision=revision, step_id=form.cleaned_data["step"],
+            requirement_key=form.cleaned_data["requirement_key"],
+            reason=form.cleaned_data["reason"], user=request.user,
+            password=form.cleaned_data["password"], request=request)
+    except E.ReviewError as exc:
+        return render(request, "hazards/review.html", _review_context(
+            request, revision.process, revision, error=exc.message), status=exc.status)
+    messages.success(request, "Risk acceptance signed.")
+    return redirect("web-review", pk=revision.process_id)
 
 
 @login_required

@@ -43,6 +43,8 @@ urlpatterns = [
     path("processes/<int:pk>/revisions/", revisions.compare, name="web-revisions"),
     path("revisions/<int:pk>/sign/", review.sign, name="web-sign"),
     path("revisions/<int:pk>/send-back/", review.send_back, name="web-send-back"),
+    path("revisions/<int:pk>/risk-acceptances/", review.risk_accept,
+         name="web-risk-accept"),
     path("findings/<int:pk>/", review.finding_detail, name="web-finding"),
     path("steps/", lists.step_list, name="web-steps"),
     path("portfolio/", portfolio.page, name="web-portfolio"),

@@ -46,3 +46,30 @@ def test_step_review_and_start_pages_show_the_measures(client, process, author, 
     assert "Blocks endorsement." in review and "Quench is in place" in review
     home = client.get("/").content.decode()
     assert "Protective measures overdue" in home and "quench tank T-12" in home
+
+
+def test_the_approver_signs_a_risk_acceptance_on_the_review_page(client, process, author,
+                                                                 reviewer, approver):
+    from hazards.review.models import RiskAcceptance
+    from hazards.review.requirements import unmet_requirements
+    from tests.conftest import PASSWORD
+
+    svc.measure_policy_set(site=process.site, data={"requirements": {
+        str(c): [{"any_of": ["redesign"], "status": "proven"}] for c in range(1, 6)}})
+    revision = revision_in(process, "checked", author=author, reviewer=reviewer)
+    [unmet] = unmet_requirements(content=revision.content, site_id=process.site_id)
+    client.force_login(approver)
+    page = client.get(f"/processes/{process.pk}/review/").content.decode()
+    assert "Sign the risk acceptance" in page
+    form = {"accept-step": unmet["step"], "accept-requirement_key": unmet["key"],
+            "accept-reason": "Trial batches under supervision.", "accept-password": "wrong"}
+    bad = client.post(f"/revisions/{revision.pk}/risk-acceptances/", form)
+    assert bad.status_code == 403 and not RiskAcceptance.objects.exists()
+    ok = client.post(f"/revisions/{revision.pk}/risk-acceptances/",
+                     {**form, "accept-password": PASSWORD})
+    assert ok.status_code == 302
+    page = client.get(f"/processes/{process.pk}/review/").content.decode()
+    assert "Risk accepted (signed)." in page and "Trial batches under supervision." in page
+    client.force_login(reviewer)
+    assert "Sign the risk acceptance" not in client.get(
+        f"/processes/{process.pk}/review/").content.decode()
