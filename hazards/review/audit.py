@@ -172,8 +172,8 @@ def verify_chain(
 
 def verify_signatures() -> list[Problem]:
     from hazards.review.content import content_sha256
-    from hazards.review.models import Signature
-    from hazards.review.signing import seal_verifies
+    from hazards.review.models import RiskAcceptance, Signature
+    from hazards.review.signing import acceptance_seal_verifies, seal_verifies
 
     problems = []
     for sig in Signature.objects.select_related("revision", "signer").order_by("id"):
@@ -192,6 +192,13 @@ def verify_signatures() -> list[Problem]:
                 )
             )
         if not seal_verifies(sig):
+            problems.append(Problem("seal", f"{where}: the seal does not verify"))
+    for a in RiskAcceptance.objects.select_related("revision").order_by("id"):
+        where = (f"risk acceptance {a.pk} by {a.printed_name} of process "
+                 f"{a.revision.process_id} revision {a.revision.number}")
+        if a.content_sha256 != a.revision.content_sha256:
+            problems.append(Problem("signature", f"{where} is bound to other content"))
+        if not acceptance_seal_verifies(a):
             problems.append(Problem("seal", f"{where}: the seal does not verify"))
     return problems
 

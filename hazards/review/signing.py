@@ -83,6 +83,24 @@ def seal_verifies(signature) -> bool:
     return hmac.compare_digest(seal_of(signature), signature.seal)
 
 
+def acceptance_payload(a) -> str:
+    return canonical_json({
+        "risk_acceptance_of_revision": a.revision_id,
+        "step": a.step_id,
+        "requirement_key": a.requirement_key,
+        "requirement": a.requirement,
+        "reason": a.reason,
+        "signer": a.signer_id,
+        "printed_name": a.printed_name,
+        "signed_at": iso(a.signed_at),
+        "content_sha256": a.content_sha256,
+    })
+
+
+def acceptance_seal_verifies(a) -> bool:
+    return hmac.compare_digest(compute_seal(acceptance_payload(a)), a.seal)
+
+
 def printed_name(user) -> str:
     return (user.get_full_name() or "").strip() or user.get_username()
 

@@ -13,7 +13,9 @@ from hazards.models import IndicatorSnapshot, Measure
 from hazards.review import errors as E
 from hazards.review.models import RiskAcceptance
 from hazards.review.requirements import unmet_requirements
+from hazards.review.audit import verify_signatures
 from hazards.review.services import acceptances, revisions
+from hazards.review.signing import acceptance_seal_verifies
 from hazards.services import measures as svc
 from tests.conftest import PASSWORD
 from tests.review.factories import revision_in, sign, signing_request
@@ -130,7 +132,11 @@ def test_a_signed_risk_acceptance_lets_the_endorsement_through(
         password=PASSWORD,
         request=signing_request(approver),
     )
-    assert acceptances.acceptance_seal_verifies(a)
+    assert acceptance_seal_verifies(a)
+    assert not [p for p in verify_signatures() if "risk acceptance" in p.message]
+    a.reason = "a different reason"  # what the seal binds: a changed reason fails it
+    assert not acceptance_seal_verifies(a)
+    a.refresh_from_db()
     assert a.content_sha256 == revision.content_sha256
     sign(revision, approver, "approved")
     revision.refresh_from_db()

@@ -18,31 +18,12 @@ from hazards.review.models import ProcessRevision, ReviewState, RiskAcceptance, 
 from hazards.review.requirements import unmet_requirements
 from hazards.review.signing import (
     Reauthentication,
+    acceptance_payload,
     compute_seal,
     db_clock,
-    iso,
     printed_name,
     reauthenticate,
 )
-from hazards.services.indicators import canonical_json
-
-
-def acceptance_payload(a: RiskAcceptance) -> str:
-    return canonical_json({
-        "risk_acceptance_of_revision": a.revision_id,
-        "step": a.step_id,
-        "requirement_key": a.requirement_key,
-        "requirement": a.requirement,
-        "reason": a.reason,
-        "signer": a.signer_id,
-        "printed_name": a.printed_name,
-        "signed_at": iso(a.signed_at),
-        "content_sha256": a.content_sha256,
-    })
-
-
-def acceptance_seal_verifies(a: RiskAcceptance) -> bool:
-    return compute_seal(acceptance_payload(a)) == a.seal
 
 
 def risk_accept(*, revision: ProcessRevision, step_id: int, requirement_key: str, reason: str,
