@@ -11,9 +11,9 @@ from django.db import ProgrammingError, transaction
 
 from hazards.models import IndicatorSnapshot, Measure
 from hazards.review import errors as E
+from hazards.review.audit import verify_signatures
 from hazards.review.models import RiskAcceptance
 from hazards.review.requirements import unmet_requirements
-from hazards.review.audit import verify_signatures
 from hazards.review.services import acceptances, revisions
 from hazards.review.signing import acceptance_seal_verifies
 from hazards.services import measures as svc
