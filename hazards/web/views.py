@@ -20,7 +20,7 @@ from hazards.review.access import is_administrator, roles_on
 from hazards.review.models import Finding, ProcessRevision
 from hazards.review.selectors import approval_status
 from hazards.review.services.revisions import current_revision
-from hazards.web import indicators, selectors
+from hazards.web import data_charts, indicators, selectors
 from hazards.web.common import can_edit, visible_or_404
 from hazards.web.measures import overdue_measures, step_measures
 from hazards.web.review import review_actions
@@ -73,6 +73,17 @@ def process_detail(request, pk):
     })
 
 
+def _record(series, basis_run, runs):
+    """The basis run's calorimeter record, else the newest run's that has a file (said)."""
+    if series is not None:
+        return data_charts.series_image(series, run_label=f"run {basis_run} (the basis)")
+    other = (CalorimetrySeries.objects.filter(run__in=runs).defer("original")
+             .select_related("run").order_by("-run_id").first())
+    if other is None:
+        return None
+    return data_charts.series_image(other, run_label=f"run {other.run} (not the basis)")
+
+
 @login_required
 def step_detail(request, pk):
     step = visible_or_404(request.user, ReactionStep.objects.select_related(
@@ -114,6 +125,7 @@ def step_detail(request, pk):
             f"{series.pk}:{series.sha256}:{series.initial_mass_kg!r}:{series.feed_mass_kg!r}:"
             f"{series.file_name}" if series else "")) + indicators.decomposition_chart_images(
                 basis_test),
+        "record": _record(series, basis_run, runs),
         "kinetics": (basis_test.kinetics or {}) if basis_test else {},
         "kinetics_parameters": indicators.kinetics_parameters(basis_test),
         "history": history, "can_edit": can_edit(request.user, step),

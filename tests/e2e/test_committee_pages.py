@@ -52,8 +52,11 @@ def test_two_revisions_are_compared_with_a_summary_first(world, live_server, pag
 
     people, process, step = world["people"], world["process"], world["step"]
     first = revisions.revision_open(process=process, user=people["author"])
-    for who, meaning in (("author", "authored"), ("reviewer", "reviewed"),
-                         ("approver", "approved")):
+    for who, meaning in (
+        ("author", "authored"),
+        ("reviewer", "reviewed"),
+        ("approver", "approved"),
+    ):
         sign(first, people[who], meaning)
         first.refresh_from_db()
     revisions.revision_open(process=process, user=people["author"], reason="revalidation")
@@ -66,3 +69,34 @@ def test_two_revisions_are_compared_with_a_summary_first(world, live_server, pag
     expect(page.locator("main")).to_contain_text("Step 1. Charge and dissolve")
     assert axe_violations(page) == []
     shoot_and_check(page, "revision-compare")
+
+
+def test_the_calorimeter_record_is_plotted_on_the_run_and_step_pages(world, live_server, page):
+    from django.test import Client
+
+    from tests.web.conftest import series_csv
+    from tests.web.test_upload import choose
+
+    step = world["step"]
+    author = Client()
+    author.force_login(world["people"]["author"])
+    author.get(choose(author, step, series_csv())["Location"])
+    assert author.post(f"/steps/{step.pk}/calorimetry/upload/confirm/", {}).status_code == 302
+    sign_in(page, live_server.url, "reviewer")
+    page.goto(f"{live_server.url}/steps/{step.pk}/")
+    expect(page.locator("#h-record")).to_be_visible()
+    page.get_by_role("link", name="Calorimetry RC-2 2026-06-01").click()
+    expect(page.locator("main h1")).to_contain_text("Calorimetry RC-2")
+    expect(page.locator("figure.record-chart img")).to_be_visible()
+    assert axe_violations(page) == []
+    shoot_and_check(page, "run-record")
+    page.goto(f"{live_server.url}/steps/{step.pk}/")
+    page.locator("#h-record").scroll_into_view_if_needed()
+    for width in (1280, 390):
+        page.set_viewport_size({"width": width, "height": 900})
+        page.locator("section:has(#h-record)").screenshot(
+            path=str(SHOTS / f"step-record-{width}.png")
+        )
+        page.locator("section:has(#h-charts)").screenshot(
+            path=str(SHOTS / f"step-charts-{width}.png")
+        )
