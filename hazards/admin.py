@@ -85,6 +85,18 @@ class CalorimetrySeriesAdmin(RecordAdmin):
     readonly_fields = RecordAdmin.readonly_fields + ("sha256", "data", "derived", "columns")
 
 
+@admin.register(m.Measure)
+class MeasureAdmin(RecordAdmin):
+    list_display = ("step", "kind", "acts_on", "status", "owner", "due_date")
+    list_filter = ("kind", "status")
+
+
+@admin.register(m.MeasurePolicy)
+class MeasurePolicyAdmin(admin.ModelAdmin):
+    list_display = ("site", "failed_check_blocks", "reminder_days", "version")
+    readonly_fields = ("version", "updated_at")
+
+
 @admin.register(m.IndicatorSnapshot)
 class SnapshotAdmin(admin.ModelAdmin):
     list_display = ("step", "computed_at", "criticality_class", "is_current")

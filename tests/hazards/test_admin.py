@@ -11,7 +11,7 @@ pytestmark = pytest.mark.django_db
 
 RECORD_TYPES = ["site", "process", "reactionstep", "solvent", "vessel", "calorimetryrun",
                 "decompositiontest", "decompositionpeak", "calorimetryseries",
-                "indicatorsnapshot", "apitoken"]
+                "indicatorsnapshot", "apitoken", "measure", "measurepolicy"]
 
 
 def test_the_admin_index_lists_every_record_type(client, admin_user):
