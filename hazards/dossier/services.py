@@ -93,7 +93,7 @@ def dossier_request(*, process: Process, requested_by=None, reason: str = "",
     """
     with transaction.atomic():
         # Serialises version numbers per process.
-        locked = Process.objects.select_for_update().select_related("site").get(pk=process.pk)
+        locked = Process.objects.select_for_update(no_key=True, of=("self",)).select_related("site").get(pk=process.pk)
         revision = review_bridge.latest_revision(locked, reconcile=True)
         content = dossier_content(locked, revision)
         content_sha, context_sha = content_hashes(content)

@@ -80,17 +80,22 @@ class _Stale(Exception):
 
 def _lock_process_tree(process_id: int) -> None:
     """Lock the process and every record its content is built from, so that no edit can
-    commit between reading the content and signing it."""
-    list(Process._base_manager.select_for_update().filter(pk=process_id).values_list("pk"))
+    commit between reading the content and signing it.
+
+    FOR NO KEY UPDATE: it excludes every other writer of these rows just the same, but not
+    the KEY SHARE lock that a concurrent edit's deferred foreign-key checks take on the
+    process at COMMIT (the per-process class counts reference it); FOR UPDATE made such an
+    edit, holding its step row, and this signing, waiting for that row, a deadlock."""
+    list(Process._base_manager.select_for_update(no_key=True).filter(pk=process_id).values_list("pk"))
     steps = list(
-        ReactionStep._base_manager.select_for_update().filter(process_id=process_id)
+        ReactionStep._base_manager.select_for_update(no_key=True).filter(process_id=process_id)
         .order_by("pk").values_list("pk", flat=True)
     )
-    list(CalorimetryRun._base_manager.select_for_update().filter(step_id__in=steps)
+    list(CalorimetryRun._base_manager.select_for_update(no_key=True).filter(step_id__in=steps)
          .order_by("pk").values_list("pk"))
-    list(DecompositionTest._base_manager.select_for_update().filter(step_id__in=steps)
+    list(DecompositionTest._base_manager.select_for_update(no_key=True).filter(step_id__in=steps)
          .order_by("pk").values_list("pk"))
-    list(Measure._base_manager.select_for_update().filter(step_id__in=steps)
+    list(Measure._base_manager.select_for_update(no_key=True).filter(step_id__in=steps)
          .order_by("pk").values_list("pk"))
 
 
@@ -133,7 +138,7 @@ def revision_open(*, process: Process, user, reason: str = "") -> ProcessRevisio
         raise E.NotPermitted(E.NOT_AN_AUTHOR)
     with transaction.atomic(), trail.scope(reason=reason or "revision opened",
                                                  review_action="open"):
-        list(Process._base_manager.select_for_update().filter(pk=process.pk).values_list("pk"))
+        list(Process._base_manager.select_for_update(no_key=True).filter(pk=process.pk).values_list("pk"))
         if Role.AUTHOR not in roles_on(user, process.pk):
             raise E.NotPermitted(E.NOT_AN_AUTHOR)
         if ProcessRevision.objects.filter(process=process, state__in=OPEN_STATES).exists():
