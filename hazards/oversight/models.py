@@ -169,9 +169,12 @@ class Kind(models.TextChoices):
     MEASURE_DUE = "measure_due", "A protective measure you own falls due"
 
 
+@tracked(exclude=["body", "emailed_at"])
 class Notification(models.Model):
     """One message to one person. (kind, object, period, recipient) is its idempotency key:
-    whatever runs twice finds the row and sends nothing again."""
+    whatever runs twice finds the row and sends nothing again. The trail keeps who was told
+    what and when it was read, or settled by the act it asked for (`services.
+    notifications_settle`, under that act's context)."""
 
     recipient = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.CASCADE,
                                   related_name="notifications")

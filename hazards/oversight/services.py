@@ -61,3 +61,16 @@ def notifications_mark_read(*, user, ids=None) -> int:
 
 def inbox_of(user):
     return Notification.objects.filter(recipient=user, in_inbox=True)
+
+
+def notifications_settle(*, kinds, object_keys, using: str = "default") -> int:
+    """Mark read every unread notification of `kinds` about `object_keys`: the act they asked
+    for is done (a revision signed or sent back, a finding handed over for check or settled,
+    a measure proven, a later revision approved), so nobody is left asked to do it.
+
+    Runs in the act's own transaction (the hooks call it from the act's saves), so the
+    notification's trail event carries that act's context; only the notifications of these
+    keys change, every other one stays as it was."""
+    qs = Notification.objects.using(using).filter(
+        kind__in=list(kinds), object_key__in=list(object_keys), read_at__isnull=True)
+    return qs.update(read_at=timezone.now())

@@ -42,4 +42,7 @@ def test_a_measure_falling_due_reminds_its_owner_once_per_stage(process, author)
         measure=m,
         data={"status": "proven", "evidence_reference": "T-1", "test_date": dt.date(2026, 12, 1)},
     )
+    # Proving the measure settles its reminders (issue 21 item 5): nothing left to do.
+    assert not Notification.objects.filter(recipient=author, kind="measure_due",
+                                           read_at__isnull=True).exists()
     assert notify.remind(on=dt.date(2027, 4, 30))["measure_due"] == 0
