@@ -172,6 +172,18 @@ def last_approved(process, exclude=None):
     return qs.order_by("-number").first()
 
 
+def approval_blockers(process, sign, blocks) -> dict | None:
+    """What refuses the approval the approver is offered, named before any password is typed
+    (issue 21 item 5): the blocking findings not yet settled and the required measures that
+    are unmet and not covered by a signed risk acceptance. The service refuses the same
+    (`revisions._sign_locked`, `refuse_unmet_measures`); None when nothing blocks."""
+    if not sign or sign["meaning"] != Meaning.APPROVED:
+        return None
+    found = list(finding_services.blocking_findings(process).select_related("owner"))
+    unmet = [u for u in blocks["unmet"] if not u["accepted"]]
+    return {"findings": found, "measures": unmet} if found or unmet else None
+
+
 def _with_credential_notes(signatures) -> list:
     """Signatures, each with `credentials_note` when its signer's password changed shortly
     before it (issue 18 item 2)."""
@@ -212,6 +224,8 @@ def _review_context(request, process, revision, **extra):
             revision is not None and revision.state in ("lodged", "checked")
             and Role.APPROVER in roles_on(user, process.pk)),
     }
+    context["approval_blockers"] = approval_blockers(
+        process, context["actions"]["sign"], context["blocks"])
     if context["actions"]["sign"]:
         context.setdefault("sign_form", SignForm(initial={
             "meaning": context["actions"]["sign"]["meaning"]}))

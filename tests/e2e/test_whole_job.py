@@ -1,6 +1,7 @@
 """The whole job in a real browser: a chemist enters a step with its calorimetry (from a file)
 and decomposition data, sees the indicators and class; a reviewer returns it with a finding;
-the chemist fixes it; reviewer and approver sign; an auditor downloads the dossier and it
+the chemist fixes it; the reviewer signs; the approver is told of the finding still to be
+checked before any password is asked for; once it is resolved the approver signs; an auditor downloads the dossier and it
 verifies."""
 
 from __future__ import annotations
@@ -149,14 +150,8 @@ def test_the_whole_job(world, live_server, browser, artifacts, tmp_path):
     author.get_by_role("button", name="Submit for review (sign as author)").click()
     expect(author.locator(".lead .state")).to_have_text(re.compile("Lodged for review"))
 
-    # --- The reviewer who raised the finding checks it and resolves it; then both sign.
-    reviewer.goto(f"{base}/processes/{process.pk}/review/")
-    reviewer.get_by_role("link", name="Dosing time too short for the cooling capacity").click()
-    expect(reviewer.locator(".notes")).to_contain_text("Dosing extended to 180 min.")
-    reviewer.get_by_label("New status").select_option("resolved")
-    reviewer.get_by_label("Reason (what was done)").fill("Checked: 180 min dosing.")
-    reviewer.get_by_role("button", name="Save the status").click()
-    expect(reviewer.locator(".message-success")).to_have_text("Finding updated.")
+    # --- The reviewer signs; the approver is told of the finding still waiting for its check,
+    # by name, before any password is asked for.
     reviewer.goto(f"{base}/processes/{process.pk}/review/")
     expect(reviewer.locator("#sign-meaning")).to_contain_text("Reviewed:")
     reviewer.get_by_label("Your password").fill(PASSWORD)
@@ -164,6 +159,21 @@ def test_the_whole_job(world, live_server, browser, artifacts, tmp_path):
     expect(reviewer.locator(".lead .state")).to_have_text(re.compile("Checked"))
     approver_ctx, approver = person("approver")
     approver.get_by_role("link", name=f"{process.name}, revision 2").click()
+    expect(approver.locator("#approval-blocked")).to_contain_text("cannot be approved yet")
+    expect(approver.locator("#approval-blocked").get_by_role(
+        "link", name="Dosing time too short for the cooling capacity")).to_be_visible()
+    expect(approver.get_by_label("Your password")).to_have_count(0)
+
+    # --- The reviewer who raised the finding checks it and resolves it; the approver signs.
+    reviewer.goto(f"{base}/processes/{process.pk}/review/")
+    reviewer.get_by_role("link", name="Dosing time too short for the cooling capacity").click()
+    expect(reviewer.locator(".notes")).to_contain_text("Dosing extended to 180 min.")
+    reviewer.get_by_label("New status").select_option("resolved")
+    reviewer.get_by_label("Reason (what was done)").fill("Checked: 180 min dosing.")
+    reviewer.get_by_role("button", name="Save the status").click()
+    expect(reviewer.locator(".message-success")).to_have_text("Finding updated.")
+    approver.reload()
+    expect(approver.locator("#approval-blocked")).to_have_count(0)
     approver.get_by_label("Your password").fill("a wrong password")
     approver.get_by_role("button", name="Sign as approver (endorse)").click()
     expect(approver.locator("#err-sign-password")).to_contain_text("nothing was signed")

@@ -10,7 +10,9 @@ from django.utils.html import escape
 
 from hazards.review import errors as E
 from hazards.review.models import Finding, ProcessRevision, ReviewState, Signature
+from hazards.review.services import findings
 from tests.conftest import PASSWORD
+from tests.web.conftest import sign
 
 pytestmark = pytest.mark.django_db
 
@@ -129,3 +131,39 @@ def test_the_difference_from_the_last_approved_revision_is_shown(people, process
     assert step.needs_review
     assert "Approvals that no longer hold <span class=\"count\">1</span>" in client.get(
         "/").content.decode()
+
+
+def test_the_approver_sees_the_open_blocking_finding_before_any_password(people, process,
+                                                                         lodged, client_as):
+    sign(lodged, people["reviewer"], "reviewed")
+    finding = findings.finding_raise(
+        process=process, user=people["reviewer"], title="Relief line sizing record missing",
+        kind="blocking", owner=people["author"], due_date=dt.date(2030, 1, 31))
+    client = client_as(people["approver"])
+    html = client.get(f"/processes/{process.pk}/review/").content.decode()
+    notice = html[html.index('id="approval-blocked"'):]
+    notice = notice[:notice.index("</div>")]
+    assert "cannot be approved yet" in notice
+    assert f'href="/findings/{finding.pk}/">Relief line sizing record missing</a>' in notice
+    # No signing password to type while the approval would be refused; the notice comes first.
+    assert 'name="sign-password"' not in html
+    # A hand-made POST is still refused by the service, and nothing is signed.
+    response = client.post(f"/revisions/{lodged.pk}/sign/",
+                           {"sign-meaning": "approved", "sign-password": PASSWORD})
+    assert response.status_code == 409
+    assert escape(E.OPEN_BLOCKING_FINDINGS) in response.content.decode()
+    assert not Signature.objects.filter(signer=people["approver"]).exists()
+    # Once the raiser resolves it, the password is asked for.
+    findings.finding_update(finding=finding, user=people["reviewer"], status="resolved",
+                            reason="Record attached and checked.")
+    html = client.get(f"/processes/{process.pk}/review/").content.decode()
+    assert 'id="approval-blocked"' not in html and 'name="sign-password"' in html
+
+
+def test_the_reviewer_is_not_told_of_an_approval_block(people, process, lodged, client_as):
+    findings.finding_raise(
+        process=process, user=people["approver"], title="Relief line sizing record missing",
+        kind="blocking", owner=people["author"], due_date=dt.date(2030, 1, 31))
+    html = client_as(people["reviewer"]).get(f"/processes/{process.pk}/review/").content.decode()
+    # The review signature is not refused by an open finding: the reviewer signs as before.
+    assert 'id="approval-blocked"' not in html and 'name="sign-password"' in html

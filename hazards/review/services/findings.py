@@ -143,6 +143,12 @@ def finding_update(*, finding: Finding, user, reason: str, **changes) -> Finding
     return finding
 
 
-def open_blocking(process) -> bool:
+def blocking_findings(process):
+    """The blocking findings not yet settled (open or ready for check): while one exists the
+    approval is refused; the review page names them above the approver's signing form."""
     return Finding.objects.filter(process=process, kind=FindingKind.BLOCKING,
-                                  status__in=UNSETTLED_FINDING).exists()
+                                  status__in=UNSETTLED_FINDING).order_by("due_date", "pk")
+
+
+def open_blocking(process) -> bool:
+    return blocking_findings(process).exists()
