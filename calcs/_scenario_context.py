@@ -24,6 +24,7 @@ class _Ctx:
     series_peak_w_per_kg: float | None = None
     lowest_measured_k: float | None = None  # lowest temperature the decomposition data saw
     kinetics: Any = None  # the fitted decomposition model TD24 came from, if any
+    point: Any = None  # calcs.operating_point.PointInputs of a semi-batch step, if any
 
     def ref(self, *keys: str) -> None:
         self.refs.extend(k for k in keys if k not in self.refs)

@@ -11,6 +11,7 @@ from calcs._scenario_barriers import barrier_checks
 from calcs._scenario_context import _Ctx
 from calcs._scenario_edges import _extrapolation, _mtsr_from_entered_accumulation
 from calcs._scenario_kinetics import kinetic_td24, kinetic_tmr_at_mtsr
+from calcs._scenario_point import operating_point
 from calcs._scenario_vessel import _cooling, _end_pressure, _mtt, _solvent
 from calcs.accumulation import analyse_accumulation
 from calcs.constants import DAY, R
@@ -39,6 +40,7 @@ def run(s: StepInputs, cfg: AssessmentSettings) -> Assessment:
     _validate(s)
     c = _Ctx(s, cfg)
     _adiabatic_rise(c)
+    operating_point(c)
     _mtsr(c)
     _solvent(c)
     _mtt(c)
@@ -74,13 +76,15 @@ def _validate(s: StepInputs) -> None:
                  "dosing_time_s", "vessel_heat_transfer_area_m2", "vessel_u_w_per_m2_k",
                  "vessel_relief_set_pressure_pa", "vessel_design_pressure_pa",
                  "vessel_headspace_m3", "activation_energy_j_per_mol",
-                 "heat_release_rate_at_reference_w_per_kg"):
+                 "heat_release_rate_at_reference_w_per_kg", "dosing_activation_energy_j_per_mol",
+                 "accumulation_time_s"):
         optional(require_positive, name, getattr(s, name))
     for name in ("max_heat_release_rate_w_per_kg", "gas_release_mol_per_kg",
                  "decomposition_energy_j_per_kg"):
         optional(require_non_negative, name, getattr(s, name))
     optional(require_finite, "specific_reaction_heat_j_per_kg", s.specific_reaction_heat_j_per_kg)
     optional(require_fraction, "max_accumulation", s.max_accumulation)
+    optional(require_fraction, "accumulation_on_mass_present", s.accumulation_on_mass_present)
     if s.initial_mass_fraction is not None and not (
             0.0 < require_finite("initial_mass_fraction", s.initial_mass_fraction) <= 1.0):
         raise CalcInputError("initial_mass_fraction", s.initial_mass_fraction,
@@ -146,17 +150,32 @@ def _mtsr(c: _Ctx) -> None:
     tp = s.process_temperature_k
     if s.operation_mode == "batch":
         out["mtsr_k"], c.methods["mtsr"] = tp + dt, "mtsr.batch"
+    elif c.point is not None and c.point.mode in ("model", "no_credit"):
+        # at the plant's dosing time, temperature and fill (calcs.operating_point)
+        x = c.point.accumulation_on_mass_present
+        out["mtsr_k"], out["mtsr_time_s"] = tp + x * dt, c.point.accumulation_time_s
+        c.methods["mtsr"] = {"model": "mtsr.semi_batch.dosing_model",
+                             "no_credit": "mtsr.semi_batch.no_credit"}[c.point.mode]
+        c.parameters["accumulation_on_mass_present"] = x
+        if c.point.accumulation_at_end_of_dosing is not None:
+            c.parameters["accumulation_at_end_of_dosing"] = c.point.accumulation_at_end_of_dosing
     elif series is not None:
-        # MTSR(t) = T_r(t) + X_ac(t)·ΔT_ad·m_final/m(t): heat released into the mass present
+        # MTSR(t) = T_r(t) + X_ac(t)·ΔT_ad·m_final/m(t): heat released into the mass present,
+        # T_r moved to the plant's T_p when they differ by less than the tolerance
         m_final = s.series.initial_mass_kg + s.series.feed_mass_kg
         t_r = s.series.reactor_temperature_k
-        base = tp if t_r is None else np.asarray(t_r, dtype=float)
+        shift = c.parameters.get("temperature_shift_k", 0.0)
+        base = tp if t_r is None else np.asarray(t_r, dtype=float) + shift
         mtsr_t = base + series.accumulation * (dt * m_final) / series.mass_kg
         i = int(np.argmax(mtsr_t))
         out["mtsr_k"], out["mtsr_time_s"] = float(mtsr_t[i]), float(series.time_s[i])
         c.methods["mtsr"] = "mtsr.semi_batch.series"
         c.parameters["accumulation_at_max_mtsr"] = float(series.accumulation[i])
         c.parameters["max_accumulation"] = series.max_accumulation
+    elif s.accumulation_on_mass_present is not None:
+        out["mtsr_k"] = tp + s.accumulation_on_mass_present * dt
+        out["mtsr_time_s"] = s.accumulation_time_s
+        c.methods["mtsr"] = "mtsr.semi_batch.accumulation_on_mass_present"
     elif s.max_accumulation is not None:
         _mtsr_from_entered_accumulation(c, tp, dt)
     else:

@@ -149,10 +149,18 @@ def _cooling(c: _Ctx) -> None:
     peak_w_per_kg, how = s.max_heat_release_rate_w_per_kg, "entered"
     if peak_w_per_kg is None and c.series_peak_w_per_kg is not None:
         peak_w_per_kg, how = c.series_peak_w_per_kg, "series"
+    point = c.point
+    if point is not None and point.mode in ("model", "no_credit"):
+        # the lab's peak belongs to the lab's dosing time: the plant's point instead
+        peak_w_per_kg = point.peak_heat_release_w_per_kg
     if peak_w_per_kg is not None and s.reaction_mass_kg is not None:
         peak = peak_w_per_kg * s.reaction_mass_kg
         out["plant_peak_heat_release_w"] = peak
-        c.methods["plant_peak_heat_release"] = f"cooling.lab_specific_peak_times_mass.{how}"
+        c.methods["plant_peak_heat_release"] = (
+            f"cooling.lab_specific_peak_times_mass.{how}" if point is None
+            or point.mode not in ("model", "no_credit")
+            else f"cooling.{'dosing_model' if point.mode == 'model' else 'no_credit'}"
+                 "_peak_times_mass")
         if cap is not None and peak > 0.0:
             out["cooling_margin"] = cap / peak
             c.methods["cooling_margin"] = "cooling.capacity_over_peak"

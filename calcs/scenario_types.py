@@ -113,6 +113,13 @@ class StepInputs:
     initial_mass_fraction: float | None = None  # m_0/m_final of a semi-batch step, (0, 1]
     decomposition_kinetics: DecompositionKinetics | None = None  # fitted from the curves
     measures: tuple[MeasureInputs, ...] = ()  # protective measures (issue 17), design values
+    # E_a of the desired (dosed) reaction [J/mol]: moves the dosing model's k from the lab's
+    # temperature to the plant's (calcs.operating_point); None: only the lab's temperature
+    dosing_activation_energy_j_per_mol: float | None = None
+    # the largest accumulation on the mass present, in final-mass terms (max MTSR = T_p +
+    # X·ΔT_ad), and its time from the start of dosing [s]: a model's answer at this point
+    accumulation_on_mass_present: float | None = None
+    accumulation_time_s: float | None = None
 
 
 _SEVERITY = {"3-level": SEVERITY_3, "4-level": SEVERITY_4}
