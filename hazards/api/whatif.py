@@ -88,6 +88,15 @@ class ProfileSerializer(serializers.Serializer):
     mtsr = serializers.ListField(child=serializers.FloatField())
 
 
+class OperatingPointSerializer(serializers.Serializer):
+    mode = serializers.CharField(allow_null=True, help_text=(
+        "series: the lab run as measured (lab and plant agree within 5 % dosing time, 0.5 K, "
+        "0.05 final/initial mass); model: the dosing model at this point; no_credit: no model, "
+        "no credit for reaction during dosing; lab_accumulation: an entered accumulation, no "
+        "series. The same rule as the step's indicators."))
+    basis = serializers.CharField(allow_null=True, help_text="Where the numbers come from.")
+
+
 class WhatIfResponseSerializer(serializers.Serializer):
     dosing_time = QuantityField("time")
     process_temperature = QuantityField("temperature")
@@ -106,6 +115,7 @@ class WhatIfResponseSerializer(serializers.Serializer):
     criticality_class = serializers.IntegerField(allow_null=True)
     acceptable = serializers.BooleanField()
     warnings = serializers.ListField(child=serializers.CharField())
+    operating_point = OperatingPointSerializer()
     model = ModelSerializer()
     profile = ProfileSerializer()
     saved = serializers.BooleanField(help_text="Always false: a what-if saves nothing.")
@@ -190,6 +200,9 @@ def point_data(p: services.WhatIf) -> dict:
         "minimum_cooling_margin": p.minimum_cooling_margin, "tmr_ad_at_mtsr": p.tmr_ad_at_mtsr_s,
         "mtt": p.mtt_k, "td24": p.td24_k, "criticality_class": p.criticality_class,
         "acceptable": p.acceptable, "warnings": list(p.warnings),
+        # where the numbers come from, as the step's indicators record it (calcs.operating_point)
+        "operating_point": {"mode": p.operating_point.get("operating_point_mode"),
+                            "basis": p.operating_point.get("operating_point_basis")},
         "model": model_data(p.model, p.rate_constant_per_s),
         "profile": {"time_unit": "min", "time": (t / 60).tolist(), "accumulation": a.tolist(),
                     "mtsr_unit": "degC", "mtsr": (mtsr - 273.15).tolist()},
@@ -254,7 +267,8 @@ class WhatIfView(IdempotentPostMixin, APIView):
     to the decay of the step's calorimetry series after dosing, or inferred from the entered
     maximum accumulation — `model.name` and `model.warnings` say which); MTSR with the mass
     present, plant peak heat release against the vessel's cooling, TMRad at MTSR and the
-    criticality class come from the same scenario as the recorded indicators.
+    criticality class come from the same scenario as the recorded indicators: at the step's own
+    point the answer is the step's indicators (`operating_point` says where they come from).
     """
 
     permission_classes = [StepVisible]

@@ -17,9 +17,13 @@ measured temperature (±0.5 K) is evaluated and other temperatures are refused
 in both directions (a higher k lowers the accumulation but raises the peak heat release).
 
 Each point is assessed by `calcs.scenario.assess_step` on the step's inputs with
-`dataclasses.replace`: the dosing time and temperature, no series, the model's accumulation on
-the mass basis (so T_p + X·ΔT_ad is the maximum of MTSR(t) with the mass present) and the
-model's peak heat release. The window vectorises the same equations over the grid
+`dataclasses.replace`: the dosing time and temperature (and the activation energy) and, with
+a series, nothing else: the assessment chooses, as it does for the step itself, between the
+series as measured (the point agrees with the lab run), the dosing model at the point, or no
+credit (`calcs.operating_point`), so the what-if at the step's own point answers exactly the
+step's indicators. Without a series the model's accumulation on the mass present and its peak
+heat release are passed in (at the step's own point its entered numbers, as the step reads
+them). The window vectorises the same equations over the grid
 (`calcs.semibatch.operating_window`); MTT and TD24 come from one assessment (one per
 temperature for a closed vessel, whose MTT depends on T_p).
 """
@@ -31,8 +35,7 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from calcs import scenario, semibatch
-from calcs.accumulation import mass_present
+from calcs import operating_point, scenario, semibatch
 from calcs.errors import CalcInputError
 from hazards import trail
 
@@ -113,6 +116,7 @@ class WhatIf:
     methods: dict
     profile: tuple  # (t [s], a [-], MTSR [K]) arrays
     model: ReactionModel
+    operating_point: dict = field(default_factory=dict)  # mode and basis, as the step records
 
 
 @dataclass(frozen=True)
@@ -144,24 +148,13 @@ def load(step_id: int):
     return cases[0], series_rows(step_id)
 
 
-def _fit(row: dict, process_temperature_k: float) -> semibatch.SemibatchFit:
+def _fit(row: dict, process_temperature_k: float):
+    """(SemibatchFit, DosingModel) of one series row: the same fit the step's assessment uses
+    (calcs.operating_point.model_from_series), and the fit's quality for the page."""
     d = row["data"]
-    return semibatch.fit_semibatch_series(
-        d["time_s"], d["heat_release_rate_w"], d["dosed_fraction"], row["initial_mass_kg"],
-        row["feed_mass_kg"], d.get("reactor_temperature_k"), process_temperature_k)
-
-
-def _measured_peak_scale(row: dict, fit: semibatch.SemibatchFit) -> float:
-    """max(1, measured peak / model peak) at the measured run (never below the model)."""
-    d = row["data"]
-    q, fd = np.asarray(d["heat_release_rate_w"], float), np.asarray(d["dosed_fraction"], float)
-    i = int(np.argmax(q))
-    # the mass actually present (a record that stops early does not hold the whole feed)
-    m = float(mass_present(fd, row["initial_mass_kg"], row["feed_mass_kg"])[i])
-    m_final = row["initial_mass_kg"] + row["feed_mass_kg"]
-    model = semibatch.peak_specific_heat_release(fit.total_heat_j / m_final,
-                                                 fit.rate_constant_per_s, fit.dosing_time_s)
-    return max(1.0, float(q[i] / m) / model)
+    args = (d["time_s"], d["heat_release_rate_w"], d["dosed_fraction"], row["initial_mass_kg"],
+            row["feed_mass_kg"], d.get("reactor_temperature_k"), process_temperature_k)
+    return semibatch.fit_semibatch_series(*args), operating_point.model_from_series(*args)
 
 
 def build_model(case, rows: list[dict], *, activation_energy_j_per_mol: float | None = None
@@ -172,9 +165,12 @@ def build_model(case, rows: list[dict], *, activation_energy_j_per_mol: float | 
         raise WhatIfRefused(None, NOT_SEMI_BATCH)
     warnings: list[str] = []
     fits: list[tuple[dict, semibatch.SemibatchFit]] = []
+    scales: dict[int, float] = {}
     for row in rows:
         try:
-            fits.append((row, _fit(row, s.process_temperature_k)))
+            fit, dosing = _fit(row, s.process_temperature_k)
+            fits.append((row, fit))
+            scales[row["run_id"]] = dosing.peak_scale
         except CalcInputError as exc:
             warnings.append(f"calorimetry run {row['run_id']}: the series does not support the "
                             f"model ({exc.argument}: {exc.rule})")
@@ -187,9 +183,10 @@ def build_model(case, rows: list[dict], *, activation_energy_j_per_mol: float | 
         warnings.extend(f"series fit (run {row['run_id']}): {w}" for w in fit.warnings)
         if q_spec is None:
             q_spec = fit.total_heat_j / (row["initial_mass_kg"] + row["feed_mass_kg"])
-        k, t_ref, td0, r0 = (fit.rate_constant_per_s, fit.temperature_k, fit.dosing_time_s,
-                             fit.initial_mass_fraction)
-        scale, name = _measured_peak_scale(row, fit), "pseudo_first_order.series_fit"
+        k, t_ref, td0 = fit.rate_constant_per_s, fit.temperature_k, fit.dosing_time_s
+        # the plant's fill where entered, else the lab's (as the step's assessment)
+        r0 = s.initial_mass_fraction or fit.initial_mass_fraction
+        scale, name = scales[row["run_id"]], "pseudo_first_order.series_fit"
         temps = [f.temperature_k for _, f in fits]
         if len(fits) >= 2 and max(temps) - min(temps) >= 2.0:
             try:
@@ -201,14 +198,14 @@ def build_model(case, rows: list[dict], *, activation_energy_j_per_mol: float | 
         x_ac, td0 = s.max_accumulation, s.dosing_time_s
         if x_ac is None or not 0.0 < x_ac < 1.0 or td0 is None:
             raise WhatIfRefused(None, NO_MODEL_DATA)
-        k = semibatch.rate_constant_from_accumulation(x_ac, td0)
-        t_ref, r0, fit, name = s.process_temperature_k, 1.0, None, \
+        # on the mass present where the step gives its initial charge, as the step reads it
+        r0 = s.initial_mass_fraction or 1.0
+        dosing = operating_point.model_from_accumulation(
+            x_ac, td0, s.process_temperature_k, r0, q_spec, s.max_heat_release_rate_w_per_kg)
+        k, t_ref, fit, name = dosing.rate_constant_per_s, s.process_temperature_k, None, \
             "pseudo_first_order.from_entered_accumulation"
         warnings.append(NO_SERIES_WARNING.format(x=x_ac, td=td0 / 60, t=t_ref - 273.15))
-        scale = 1.0
-        if q_spec and s.max_heat_release_rate_w_per_kg:
-            scale = max(1.0, s.max_heat_release_rate_w_per_kg
-                        / semibatch.peak_specific_heat_release(q_spec, k, td0))
+        scale = dosing.peak_scale
     if not q_spec:
         raise WhatIfRefused(None, NO_SPECIFIC_HEAT)
     ea = activation_energy_j_per_mol
@@ -226,14 +223,27 @@ def build_model(case, rows: list[dict], *, activation_energy_j_per_mol: float | 
 
 
 def _inputs_at(case, model: ReactionModel, dosing_time_s: float, temperature_k: float):
+    """The step's inputs at a point (see the module docstring), k, X_eff and its time."""
+    s = case.scenario_inputs
     k = model.k_at(temperature_k)
     eff, t_max = semibatch.mass_basis_accumulation(k, dosing_time_s, model.initial_mass_fraction)
-    peak = model.peak_scale * semibatch.peak_specific_heat_release(
-        model.specific_heat_j_per_kg, k, dosing_time_s)
-    inputs = replace(case.scenario_inputs, process_temperature_k=temperature_k,
-                     dosing_time_s=dosing_time_s, series=None, max_accumulation=min(eff, 1.0),
-                     max_heat_release_rate_w_per_kg=peak,
-                     specific_reaction_heat_j_per_kg=model.specific_heat_j_per_kg)
+    point = {"process_temperature_k": temperature_k, "dosing_time_s": dosing_time_s}
+    if s.series is not None:
+        inputs = replace(s, **point,
+                         dosing_activation_energy_j_per_mol=model.activation_energy_j_per_mol)
+    elif not operating_point.differences(
+            operating_point.LabBasis(model.anchor_dosing_time_s, model.reference_temperature_k,
+                                     model.initial_mass_fraction),
+            dosing_time_s, temperature_k, None):
+        inputs = replace(s, **point)  # the entered numbers, where they were measured
+    else:
+        peak = model.peak_scale * semibatch.peak_specific_heat_release(
+            model.specific_heat_j_per_kg, k, dosing_time_s)
+        inputs = replace(s, **point, max_accumulation=None,
+                         accumulation_on_mass_present=min(float(eff), 1.0),
+                         accumulation_time_s=float(t_max),
+                         max_heat_release_rate_w_per_kg=float(peak),
+                         specific_reaction_heat_j_per_kg=model.specific_heat_j_per_kg)
     return inputs, k, eff, t_max
 
 
@@ -265,12 +275,15 @@ def evaluate(case, model: ReactionModel, *, dosing_time_s: float,
     return WhatIf(
         dosing_time_s=dosing_time_s, process_temperature_k=temp, rate_constant_per_s=k,
         max_accumulation=float(semibatch.accumulation_at_end_of_dosing(k, dosing_time_s)),
-        effective_accumulation=eff, mtsr_k=a.mtsr_k, mtsr_time_s=t_max,
+        effective_accumulation=eff, mtsr_k=a.mtsr_k,
+        mtsr_time_s=t_max if a.mtsr_time_s is None else a.mtsr_time_s,
         peak_heat_release_w=a.plant_peak_heat_release_w, cooling_capacity_w=a.cooling_capacity_w,
         cooling_margin=margin, minimum_cooling_margin=settings.minimum_cooling_margin,
         tmr_ad_at_mtsr_s=a.tmr_ad_at_mtsr_s, criticality_class=a.criticality_class,
         mtt_k=a.mtt_k, td24_k=a.td24_k, acceptable=bool(acceptable), warnings=a.warnings,
-        methods=a.methods, profile=profile, model=model)
+        methods=a.methods, profile=profile, model=model,
+        operating_point={key: a.parameters[key] for key in (
+            "operating_point_mode", "operating_point_basis") if key in a.parameters})
 
 
 def default_ranges(case, model: ReactionModel) -> dict:

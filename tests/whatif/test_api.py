@@ -49,8 +49,14 @@ def test_the_series_model_reproduces_c1_7_at_the_measured_point(api, step):
     assert d["model"]["fit"]["r_squared"] == pytest.approx(1.0, abs=1e-9)
     assert d["model"]["fit"]["n_points"] > 20
     assert d["max_accumulation"] == pytest.approx(0.166254, abs=1e-6)
-    assert d["mtsr"] == {"value": pytest.approx(40.584, abs=2e-3), "unit": "degC"}
-    assert d["mtsr_time"]["value"] == pytest.approx(33.44, abs=0.02)
+    # at the lab run's own point the what-if reads the series as measured, as the step does
+    # (issue 21: one operating point, one answer): the trapezoid on the 1 min grid lies within
+    # 0.01 K above the analytic 40.584 °C (METHODS.md §1.2: a coarse grid errs on the safe
+    # side), its maximum at the grid minute next to 33.44 min
+    assert d["operating_point"]["mode"] == "series"
+    assert d["mtsr"] == {"value": pytest.approx(40.589, abs=5e-3), "unit": "degC"}
+    assert d["mtsr"]["value"] >= 40.584
+    assert d["mtsr_time"]["value"] == pytest.approx(33.44, abs=0.6)
     assert d["cooling_capacity"] == {"value": pytest.approx(84000.0), "unit": "W"}
     assert d["peak_heat_release"]["value"] == pytest.approx(33.25 * 5000, rel=2e-3)
     assert d["cooling_margin"] == pytest.approx(84000 / 166254, rel=2e-3)
