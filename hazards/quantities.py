@@ -12,6 +12,9 @@ from __future__ import annotations
 import math
 import re
 import tokenize
+from collections.abc import Iterator
+from contextlib import contextmanager
+from contextvars import ContextVar
 from dataclasses import dataclass
 from numbers import Real
 
@@ -368,8 +371,97 @@ def human_unit(kind: str) -> str:
     return HUMAN_UNIT.get(unit, unit)
 
 
-def quantity_text(si_value, kind: str | None) -> str:
-    """An SI magnitude written in the field's canonical unit for people, e.g. '45 °C'."""
+# A person's display units (issue 21): the pages write temperatures, powers and pressures in
+# the units a person chose. Only people's pages follow them: the API keeps its canonical
+# {value, unit} and the signed dossier the site's standard units (hazards.dossier.view),
+# neither of which reads the choice below. `None` is the site's standard: the canonical unit
+# of each kind (°C, W or kW for a cooling capacity, bar).
+TEMPERATURE_UNITS = {"degC": "°C", "kelvin": "K", "degF": "°F"}
+POWER_UNITS = {"watt": "W", "kilowatt": "kW"}
+PRESSURE_UNITS = {"bar": "bar", "psi": "psi", "kilopascal": "kPa", "megapascal": "MPa"}
+
+
+@dataclass(frozen=True)
+class DisplayUnits:
+    """The units one person reads; each None means the site's standard for that kind."""
+
+    temperature: str | None = None
+    power: str | None = None
+    pressure: str | None = None
+
+    def __post_init__(self):
+        for name, allowed in (("temperature", TEMPERATURE_UNITS), ("power", POWER_UNITS),
+                              ("pressure", PRESSURE_UNITS)):
+            unit = getattr(self, name)
+            if unit is not None and unit not in allowed:
+                raise QuantityError(f"{name} unit", unit,
+                                    f"must be one of {', '.join(allowed.values())}",
+                                    "unknown_unit")
+
+
+STANDARD_UNITS = DisplayUnits()
+_display_units: ContextVar[DisplayUnits] = ContextVar("display_units", default=STANDARD_UNITS)
+
+
+def current_display_units() -> DisplayUnits:
+    return _display_units.get()
+
+
+@contextmanager
+def display_units(units: DisplayUnits) -> Iterator[DisplayUnits]:
+    """Write quantities for people in `units` inside the block (one request's pages)."""
+    token = _display_units.set(units)
+    try:
+        yield units
+    finally:
+        _display_units.reset(token)
+
+
+# Temperature differences and rates convert as differences: a kelvin and a degree Celsius of
+# difference are the same size, a degree Fahrenheit of difference is 1/1.8 K (NIST SP 811
+# §B.8); pint's delta units say so, and never add the 273.15 or 459.67 offsets.
+_DIFFERENCE = {"degC": ("kelvin", "K"), "kelvin": ("kelvin", "K"),
+               "degF": ("delta_degF", "°F")}
+
+
+def _chosen_unit(kind: str, units: DisplayUnits) -> tuple[str, str] | None:
+    """(pint unit, label) of `kind` in the person's units; None for the canonical unit."""
+    if kind == "temperature" and units.temperature:
+        return units.temperature, TEMPERATURE_UNITS[units.temperature]
+    if kind == "temperature_difference" and units.temperature:
+        return _DIFFERENCE[units.temperature]
+    if kind == "heating_rate" and units.temperature:
+        unit, label = _DIFFERENCE[units.temperature]
+        return f"{unit}/minute", f"{label}/min"
+    if kind in ("power", "capacity") and units.power:
+        return units.power, POWER_UNITS[units.power]
+    if kind == "pressure" and units.pressure:
+        return units.pressure, PRESSURE_UNITS[units.pressure]
+    if kind == "pressure_rate" and units.pressure:
+        return f"{units.pressure}/minute", f"{PRESSURE_UNITS[units.pressure]}/min"
+    return None
+
+
+def in_display_units(si_value: float, kind: str,
+                     units: DisplayUnits | None = None) -> tuple[float, str]:
+    """An SI magnitude in the person's unit of its kind: (number, unit label for people)."""
+    chosen = _chosen_unit(kind, units or current_display_units())
+    if chosen is None:
+        return from_si(si_value, kind=kind), human_unit(kind)
+    unit, label = chosen
+    shown = Q_(si_value, ureg.Unit(SPECS[kind].si_unit)).to(ureg.Unit(unit)).magnitude
+    return tidy(float(shown)), label
+
+
+def display_unit_label(kind: str, units: DisplayUnits | None = None) -> str:
+    """The unit label the pages write for `kind` in the person's units ('°F', 'kW')."""
+    chosen = _chosen_unit(kind, units or current_display_units())
+    return chosen[1] if chosen else human_unit(kind)
+
+
+def quantity_text(si_value, kind: str | None, units: DisplayUnits | None = None) -> str:
+    """An SI magnitude written for people, e.g. '45 °C': the canonical unit of its kind, or
+    the person's unit (`display_units`) for temperatures, powers and pressures."""
     if si_value is None:
         return "—"
     if kind is None:
@@ -378,5 +470,5 @@ def quantity_text(si_value, kind: str | None) -> str:
         grams = float(si_value) * 1000
         return (f"{format_number(grams)} g" if abs(grams) >= 1
                 else f"{format_number(grams * 1000)} mg")
-    shown = from_si(float(si_value), kind=kind)
-    return f"{format_number(shown)} {human_unit(kind)}".strip()
+    shown, unit = in_display_units(float(si_value), kind, units)
+    return f"{format_number(shown)} {unit}".strip()

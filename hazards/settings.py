@@ -76,6 +76,7 @@ MIDDLEWARE = [
     # Before anything reads the body (the CSRF check reads a form in process_view, later).
     "hazards.middleware.RefuseOversizedBodies",
     "hazards.web.middleware.SessionExpiryMiddleware",
+    "hazards.web.middleware.DisplayUnitsMiddleware",
     "django_htmx.middleware.HtmxMiddleware",
     "django.contrib.messages.middleware.MessageMiddleware",
     "django.middleware.clickjacking.XFrameOptionsMiddleware",

@@ -15,6 +15,7 @@ from hazards.models.measures import (
     MeasureStatus,
     ReliefSystem,
 )
+from hazards.models.preferences import DisplayPreference
 from hazards.models.process import Process, ReactionStep, Site
 from hazards.models.reference import Solvent, Vessel
 from hazards.models.tokens import ApiToken, ServiceAccount
@@ -27,6 +28,7 @@ __all__ = [
     "DecompositionCurve",
     "DecompositionPeak",
     "DecompositionTest",
+    "DisplayPreference",
     "IndicatorSnapshot",
     "Measure",
     "MeasureKind",

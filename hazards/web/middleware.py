@@ -7,6 +7,9 @@ import time
 from django.conf import settings
 from django.contrib.auth import logout
 
+from hazards.quantities import DisplayUnits, QuantityError, display_units
+from hazards.services.preferences import display_units_of
+
 SIGNED_IN_AT = "exo_signed_in_at"
 LAST_SEEN_AT = "exo_last_seen_at"
 EXPIRED_FLAG = "exo_expired"
@@ -38,3 +41,36 @@ class SessionExpiryMiddleware:
                 # Written at most every 15 s: enough for an idle clock, few session writes.
                 session[LAST_SEEN_AT] = now
         return self.get_response(request)
+
+
+# The person's display units, kept in the session so that a page costs no extra query; the
+# preferences page writes them here when it saves (`remember_display_units`).
+DISPLAY_UNITS = "exo_display_units"
+
+
+def remember_display_units(request, units: DisplayUnits) -> None:
+    request.session[DISPLAY_UNITS] = [units.temperature, units.power, units.pressure]
+
+
+class DisplayUnitsMiddleware:
+    """Pages write temperatures, powers and pressures in the signed-in person's units
+    (hazards.quantities.display_units). The API keeps its canonical units: not under /api/."""
+
+    def __init__(self, get_response):
+        self.get_response = get_response
+
+    def __call__(self, request):
+        user = getattr(request, "user", None)
+        if (user is None or not user.is_authenticated or not hasattr(request, "session")
+                or request.path.startswith("/api/")):
+            return self.get_response(request)
+        saved = request.session.get(DISPLAY_UNITS)
+        try:
+            units = DisplayUnits(*saved) if saved is not None else None
+        except (TypeError, QuantityError):
+            units = None
+        if units is None:
+            units = display_units_of(user)
+            remember_display_units(request, units)
+        with display_units(units):
+            return self.get_response(request)

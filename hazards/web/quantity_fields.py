@@ -5,7 +5,37 @@ from __future__ import annotations
 from django import forms
 
 from hazards.fieldkinds import kinds_for
-from hazards.quantities import SPECS, QuantityError, display_unit, from_si, parse_quantity
+from hazards.quantities import (
+    SPECS,
+    QuantityError,
+    display_unit,
+    from_si,
+    human_unit,
+    in_display_units,
+    parse_quantity,
+)
+
+# Kinds whose inputs show a stored value in the person's unit (hazards.quantities.display_units);
+# differences and rates keep their canonical unit, since a typed '°F' is read as a temperature.
+PREFILLED_KINDS = {"temperature", "power", "capacity", "pressure"}
+
+
+def in_preferred_unit(si_value: float, kind: str) -> str | None:
+    """The stored value written in the person's unit, when reading it back gives exactly the
+    stored value (so saving an untouched form changes nothing); otherwise None."""
+    if kind not in PREFILLED_KINDS:
+        return None
+    shown, unit = in_display_units(si_value, kind)
+    if unit == human_unit(kind):
+        return None
+    for digits in (10, 12):  # 10 as the canonical input shows; 12 where 10 would round
+        text = f"{shown:.{digits}g} {unit}"
+        try:
+            if parse_quantity(text, field=kind, kind=kind) == si_value:
+                return text
+        except QuantityError:
+            return None
+    return None
 
 
 class QuantityFormField(forms.CharField):
@@ -21,6 +51,9 @@ class QuantityFormField(forms.CharField):
 
     def prepare_value(self, value):
         if isinstance(value, float | int) and not isinstance(value, bool):
+            preferred = in_preferred_unit(float(value), self.kind)
+            if preferred is not None:
+                return preferred
             shown = from_si(float(value), kind=self.kind)
             unit = display_unit(self.kind)
             return f"{shown:.10g} {unit}".strip()
