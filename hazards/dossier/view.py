@@ -121,6 +121,15 @@ PARAMETERS = {
     "ambient_pressure_pa": ("Atmospheric pressure for the class without vacuum", _BAR),
 }
 
+# The quantity kind behind a parameter's unit, for the pages that write parameters in a
+# person's display units (the dossier itself keeps the units above).
+_KIND_OF = {_C: "temperature", _K: "temperature_difference", _BAR: "pressure", _KW: "power"}
+
+
+def parameter_kind(key: str) -> str | None:
+    return _KIND_OF.get(PARAMETERS.get(key, (key, None))[1])
+
+
 METHOD_LABELS = {
     "entered": "entered from the calorimetry run",
     "series.trapezoid_per_final_mass": "trapezoid integral of the series, per final mass",

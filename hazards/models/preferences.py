@@ -17,14 +17,14 @@ class TemperatureUnit(models.TextChoices):
 
 
 class PowerUnit(models.TextChoices):
-    STANDARD = "", "Site standard (W; cooling and emergency capacities in kW)"
+    STANDARD = "", "Site standard (W; capacities in kW)"
     WATT = "watt", "W (watt)"
     KILOWATT = "kilowatt", "kW (kilowatt)"
 
 
 class PressureUnit(models.TextChoices):
     BAR = "bar", "bar"
-    PSI = "psi", "psi (pound-force per square inch, absolute)"
+    PSI = "psi", "psi (absolute)"
     KILOPASCAL = "kilopascal", "kPa (kilopascal)"
     MEGAPASCAL = "megapascal", "MPa (megapascal)"
 

@@ -20,6 +20,7 @@ from django.utils import timezone
 from hazards.models import Measure, MeasurePolicy, MeasureStatus
 from hazards.oversight.dates import OVERDUE, due_state
 from hazards.oversight.models import Kind, Notification, NotificationPreference
+from hazards.quantities import STANDARD_UNITS, display_units
 from hazards.review.access import roles_on
 
 CAUTION = ("Exoledger supports and does not replace a qualified assessment; local codes, "
@@ -164,7 +165,15 @@ def _lapsed_notice(revision) -> Notice | None:
 
 
 def build(kind: str, object_key: str, period: str) -> Notice | None:
-    """What to say and to whom, from the records as they are now (None: nothing to say)."""
+    """What to say and to whom, from the records as they are now (None: nothing to say).
+
+    A notice is one text read by several people: it is written in the site's standard units,
+    never in the display units of the person whose request happened to queue it."""
+    with display_units(STANDARD_UNITS):
+        return _build(kind, object_key, period)
+
+
+def _build(kind: str, object_key: str, period: str) -> Notice | None:
     from django.apps import apps
 
     label, _, pk = object_key.rpartition(":")

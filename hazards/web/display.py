@@ -23,6 +23,17 @@ def quantity(si_value, kind: str | None) -> str:
     return quantities.quantity_text(si_value, kind)
 
 
+def in_person_units(si_value, kind: str | None) -> tuple[str, str] | None:
+    """(number, unit) of a value in the person's display units, or None where those are the
+    site's standard for its kind (or the value is no number of a known kind)."""
+    if kind is None or isinstance(si_value, bool) or not isinstance(si_value, int | float):
+        return None
+    if quantities.display_unit_label(kind) == quantities.human_unit(kind):
+        return None
+    shown, unit = quantities.in_display_units(float(si_value), kind)
+    return format_number(shown), unit
+
+
 def field_kind(model, field_name: str) -> str | None:
     return kinds_for(model).get(field_name)
 

@@ -23,10 +23,13 @@ from hazards.review.selectors import record_history
 from hazards.web import display
 
 try:  # the dossier's labels, so a page and its dossier say the same thing
-    from hazards.dossier.view import method_label, parameter_row
+    from hazards.dossier.view import method_label, parameter_kind, parameter_row
 except ImportError:  # pragma: no cover - the dossier app is optional for the pages
     def method_label(key: str) -> str:
         return key
+
+    def parameter_kind(key: str) -> str | None:
+        return None
 
     def parameter_row(key: str, value) -> dict:
         return {"key": key, "label": key, "value": str(value), "unit": ""}
@@ -64,7 +67,14 @@ def parameter_rows(snapshot) -> list[dict]:
     """What the methods assumed, labelled and in display units as in the dossier."""
     if snapshot is None:
         return []
-    return [parameter_row(k, v) for k, v in sorted((snapshot.parameters or {}).items())]
+    rows = []
+    for key, value in sorted((snapshot.parameters or {}).items()):
+        row = parameter_row(key, value)
+        chosen = display.in_person_units(value, parameter_kind(key))
+        if chosen is not None:  # the person reads other units than the dossier's
+            row["value"], row["unit"] = chosen
+        rows.append(row)
+    return rows
 
 
 def indicator_rows(snapshot) -> list[dict]:

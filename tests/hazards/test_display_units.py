@@ -62,3 +62,31 @@ def test_the_context_sets_the_units_of_a_block_and_leaves_others_alone():
 def test_an_unknown_unit_is_refused_by_name():
     with pytest.raises(QuantityError, match="temperature unit.*rankine.*°C, K, °F"):
         DisplayUnits(temperature="rankine")
+
+
+def test_the_step_pages_assumptions_follow_the_person_and_the_dossier_does_not():
+    from types import SimpleNamespace
+
+    from hazards.dossier.view import parameter_row
+    from hazards.web.indicators import parameter_rows
+
+    snapshot = SimpleNamespace(parameters={"corrected_onset_k": 373.15,
+                                           "td24_extrapolation_k": 10.0,
+                                           "ambient_pressure_pa": 101325.0})
+    with display_units(DisplayUnits(temperature="degF", pressure="psi")):
+        rows = {r["key"]: (r["value"], r["unit"]) for r in parameter_rows(snapshot)}
+        dossier = parameter_row("corrected_onset_k", 373.15)
+    # 100 °C = 212 °F; a 10 K difference = 18 °F; 1 atm = 14.696 psi (NIST SP 811 B.8).
+    assert rows == {"corrected_onset_k": ("212", "°F"), "td24_extrapolation_k": ("18", "°F"),
+                    "ambient_pressure_pa": ("14.7", "psi")}
+    assert (dossier["value"], dossier["unit"]) == ("100", "°C")  # the site's standard
+    standard = {r["key"]: (r["value"], r["unit"]) for r in parameter_rows(snapshot)}
+    assert standard["ambient_pressure_pa"] == ("1.013", "bar abs")
+
+
+def test_a_notice_is_written_in_the_site_standard_whoever_queued_it(monkeypatch):
+    from hazards.oversight import notify
+
+    monkeypatch.setattr(notify, "_build", lambda *a: quantity_text(373.15, "temperature"))
+    with display_units(FAHRENHEIT):
+        assert notify.build("approval_lapsed", "review.processrevision:1", "") == "100 °C"
