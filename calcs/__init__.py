@@ -4,4 +4,4 @@ The package imports nothing heavy at import time; import the method modules
 (``calcs.tmr``, ``calcs.scenario`` ...) where they are needed.
 """
 
-__version__ = "0.2.0"
+__version__ = "0.3.0"

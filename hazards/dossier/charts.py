@@ -28,6 +28,7 @@ from calcs.accumulation import analyse_accumulation, mass_present
 from calcs.adiabatic_sim import tmr_line
 from calcs.constants import DAY, HOUR, T_ZERO_C, R
 from calcs.rate_models import RATE_MODELS
+from calcs.semibatch import accumulated_fraction, dosing_profile
 from calcs.tmr import tmr_zero_order_at
 from hazards.quantities import scientific
 
@@ -333,6 +334,29 @@ def cooling_failure_chart(snapshot) -> str:
         return _svg(fig)
 
 
+def _point_mode(snap: dict) -> str | None:
+    return (snap.get("parameters") or {}).get("operating_point_mode")
+
+
+def plant_dosing_curves(snap: dict) -> dict | None:
+    """The dosing model at the plant's point, on the plant's time axis (the numbers the step's
+    indicators came from; calcs.operating_point): t [s], a(t) [-], MTSR(t) [K] and the plant
+    heat release q(t) = peak factor·Q′·k·a(t)·m [W]; None unless the step is in model mode."""
+    params, values, inputs = (snap.get(k) or {} for k in ("parameters", "values", "inputs"))
+    k, td = params.get("dosing_model_rate_constant_per_s"), params.get("plant_dosing_time_s")
+    dt, cp = values.get("adiabatic_temperature_rise_k"), inputs.get(
+        "specific_heat_capacity_j_per_kg_k")
+    tp, mass = inputs.get("process_temperature_k"), inputs.get("reaction_mass_kg")
+    if _point_mode(snap) != "model" or None in (k, td, dt, cp, tp, mass):
+        return None
+    r0 = params.get("plant_initial_mass_fraction") or 1.0
+    t, a, mtsr = dosing_profile(k, td, tp, dt, r0)
+    q = params.get("dosing_model_peak_scale", 1.0) * dt * cp * k * accumulated_fraction(
+        t, k, td) * mass
+    return {"time_s": t, "accumulation": a, "mtsr_k": mtsr, "heat_release_w": q,
+            "dosed_fraction": np.minimum(t / td, 1.0), "dosing_time_s": td}
+
+
 def accumulation_chart(snapshot, series: dict | None = None) -> str | None:
     """Thermal accumulation and MTSR(t) over the dosing of a semi-batch step (None for batch)."""
     snap = snapshot_data(snapshot)
@@ -341,7 +365,27 @@ def accumulation_chart(snapshot, series: dict | None = None) -> str | None:
         return None
     title = "Accumulation and MTSR during dosing"
     tp, cp = inputs.get("process_temperature_k"), inputs.get("specific_heat_capacity_j_per_kg_k")
-    if series and series.get("time_s") and cp:
+    plant = plant_dosing_curves(snap)
+    td_plant = (snap.get("parameters") or {}).get("plant_dosing_time_s")
+    if plant is not None:
+        t_h, x_ac, f_d, mtsr_t = (plant["time_s"] / HOUR, plant["accumulation"],
+                                  plant["dosed_fraction"], plant["mtsr_k"])
+        source = (f"dosing model at the plant's {td_plant / 60:.4g} min dosing (plant time); "
+                  "the lab series was dosed over "
+                  f"{snap['parameters']['lab_dosing_time_s'] / 60:.4g} min")
+        i_max = int(np.argmax(mtsr_t))
+    elif _point_mode(snap) == "no_credit" and td_plant and tp is not None and \
+            values.get("adiabatic_temperature_rise_k") is not None:
+        # no credit for reaction during dosing: all of the feed accumulates
+        r0 = (snap.get("parameters") or {}).get("plant_initial_mass_fraction") or 1.0
+        t = np.linspace(0.0, td_plant * 1.25, 126)
+        f_d = np.minimum(t / td_plant, 1.0)
+        x_ac = f_d
+        mtsr_t = tp + x_ac * values["adiabatic_temperature_rise_k"] / (r0 + (1 - r0) * f_d)
+        t_h, i_max = t / HOUR, int(np.argmax(mtsr_t))
+        source = ("no dosing model for the plant's point: no credit for reaction during "
+                  f"dosing over the plant's {td_plant / 60:.4g} min")
+    elif series and series.get("time_s") and cp:
         a = analyse_accumulation(
             series["time_s"], series["heat_release_rate_w"], series["dosed_fraction"], cp,
             series["initial_mass_kg"], series["feed_mass_kg"],
@@ -475,9 +519,20 @@ def heat_release_chart(snapshot, series: dict | None = None) -> str:
         return _message(title, "No vessel or no peak heat-release rate: the cooling duty "
                                "cannot be compared.")
     plant_mass = inputs.get("reaction_mass_kg")
+    plant = plant_dosing_curves(snap)
+    note = ""
+    if _point_mode(snap) in ("model", "no_credit"):
+        series = None  # the lab record's time base is not the plant's: never drawn as the plant
     with matplotlib.rc_context(_RC):
         fig, ax = _figure(title)
-        if series and series.get("time_s") and plant_mass:
+        if plant is not None:
+            t, q = plant["time_s"], plant["heat_release_w"]
+            ax.plot(t / HOUR, q / 1000, color=INK, linestyle="-",
+                    label="dosing model at plant scale")
+            ax.set_xlabel("time from start of dosing at the plant / h")
+            xmax = float(t[-1] / HOUR)
+            note = f"plant dosing {plant['dosing_time_s'] / 60:.4g} min; "
+        elif series and series.get("time_s") and plant_mass:
             t = np.asarray(series["time_s"], dtype=float)
             fd = np.asarray(series["dosed_fraction"], dtype=float)
             m = mass_present(fd, series["initial_mass_kg"], series["feed_mass_kg"])
@@ -508,7 +563,8 @@ def heat_release_chart(snapshot, series: dict | None = None) -> str:
         _legend(ax)
         ratio = values.get("cooling_margin")
         if ratio is not None and math.isfinite(ratio):
-            _note(fig, f"cooling margin (capacity / peak) {ratio:.2f}; required {margin:g}")
+            _note(fig, f"{note}cooling margin (capacity / peak) {ratio:.2f}; required "
+                       f"{margin:g}")
         return _svg(fig)
 
 

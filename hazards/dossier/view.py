@@ -119,6 +119,34 @@ PARAMETERS = {
     "td24_extrapolation_k": ("TD24 below the lowest measured temperature", _K),
     "tmr_extrapolation_k": ("MTSR below the lowest measured temperature (TMRad)", _K),
     "ambient_pressure_pa": ("Atmospheric pressure for the class without vacuum", _BAR),
+    # where a semi-batch step's MTSR and peak come from (calcs.operating_point)
+    "operating_point_mode": ("Operating point of the semi-batch indicators", None),
+    "operating_point_basis": ("Where the semi-batch numbers come from", None),
+    "operating_point_differences": ("Lab run and plant differ in", None),
+    "lab_dosing_time_s": ("Dosing time of the lab run", _MIN),
+    "lab_temperature_k": ("Temperature of the lab run", _C),
+    "lab_initial_mass_fraction": ("Initial charge / final mass of the lab run",
+                                  ("%", lambda x: x * 100)),
+    "plant_dosing_time_s": ("Dosing time at the plant", _MIN),
+    "plant_temperature_k": ("Process temperature at the plant", _C),
+    "plant_initial_mass_fraction": ("Initial charge / final mass at the plant",
+                                    ("%", lambda x: x * 100)),
+    "temperature_shift_k": ("Lab series moved to the plant's temperature by", _K),
+    "dosing_model_rate_constant_per_s": ("Rate constant of the dosing model at the plant's "
+                                         "temperature", ("1/min", lambda x: x * 60)),
+    "dosing_model_peak_scale": ("Peak factor of the dosing model (measured / model at the lab "
+                                "run, at least 1)", _PLAIN),
+    "dosing_activation_energy_j_per_mol": ("Activation energy of the desired reaction",
+                                           ("kJ/mol", lambda x: x / 1000)),
+    "accumulation_at_end_of_dosing": ("Accumulation at the end of dosing (plant)",
+                                      ("%", lambda x: x * 100)),
+}
+
+OPERATING_POINT_MODES = {
+    "series": "lab series as measured (lab run and plant agree)",
+    "model": "dosing model at the plant's dosing time, temperature and fill",
+    "no_credit": "no dosing model: no credit for reaction during dosing (conservative bound)",
+    "lab_accumulation": "entered maximum accumulation, taken as measured at the plant's point",
 }
 
 # The quantity kind behind a parameter's unit, for the pages that write parameters in a
@@ -136,7 +164,15 @@ METHOD_LABELS = {
     "adiabatic.specific_heat_over_cp": "ΔTad = Q′ / cp",
     "adiabatic.endothermic_no_rise": "endothermic reaction: no rise (ΔTad = 0)",
     "mtsr.batch": "batch: MTSR = Tp + ΔTad",
-    "mtsr.semi_batch.series": "semi-batch: max of Tr(t) + X_ac(t)·Q/(m(t)·cp) over the series",
+    "mtsr.semi_batch.series": "semi-batch, lab series as measured: max of Tr(t) + "
+                              "X_ac(t)·Q/(m(t)·cp) over the series",
+    "mtsr.semi_batch.dosing_model": "semi-batch: dosing model fitted to the lab series, at the "
+                                    "plant's dosing time, temperature and fill (max over time, "
+                                    "mass present)",
+    "mtsr.semi_batch.no_credit": "semi-batch, no dosing model for the plant's point: no credit "
+                                 "for reaction during dosing, Tp + ΔTad",
+    "mtsr.semi_batch.accumulation_on_mass_present":
+        "semi-batch: the dosing model's accumulation on the mass present at this point",
     "mtsr.semi_batch.max_accumulation": "semi-batch: Tp + X_ac,max·ΔTad (final mass)",
     "mtsr.semi_batch.max_accumulation_mass_basis":
         "semi-batch: entered X_ac,max on the mass present (initial charge given)",
@@ -161,7 +197,14 @@ METHOD_LABELS = {
     "cooling.lab_specific_peak_times_mass.entered":
         "entered peak heat-release rate × plant mass",
     "cooling.lab_specific_peak_times_mass.series": "series peak heat-release rate × plant mass",
+    "cooling.dosing_model_peak_times_mass":
+        "dosing model's peak at the plant's dosing time × plant mass",
+    "cooling.no_credit_peak_times_mass":
+        "no dosing model: the larger of the lab peak and Q′ / plant dosing time, × plant mass",
 }
+
+# the methods whose number depends on where a semi-batch step was evaluated
+_POINT_METHODS = ("mtsr", "plant_peak_heat_release")
 
 def method_label(key: str) -> str:
     if key in METHOD_LABELS:
@@ -244,11 +287,55 @@ def cited(text: str) -> str:
 def parameter_row(key: str, value) -> dict:
     """A parameter a method assumed, with a label and unit a reader knows; the key for tracing."""
     label, conv = PARAMETERS.get(key, (key, None))
+    if key == "operating_point_mode":
+        value = OPERATING_POINT_MODES.get(value, value)
     if isinstance(value, (int, float)) and not isinstance(value, bool):
         shown, unit = _show(value, conv) if conv else (_number(value), "")
     else:
         shown, unit = cited(str(value)), ""
     return {"key": key, "label": label, "value": shown, "unit": unit}
+
+
+def point_source(params: dict, inputs: dict) -> str:
+    """Where a semi-batch step's MTSR and peak come from, naming the lab run:
+    "dosing model (series fit) at the plant's 180 min; lab series of calorimetry run #7"."""
+    basis = params.get("operating_point_basis")
+    if not basis:
+        return ""
+    run = (inputs.get("basis") or {}).get("calorimetry_run")
+    if run and params.get("operating_point_mode") in ("series", "model", "no_credit"):
+        return f"{basis}; lab series of calorimetry run #{run}"
+    return basis
+
+
+def method_text(method: str, key: str, params: dict, inputs: dict) -> str:
+    """The label of an indicator's method; for MTSR and the peak of a semi-batch step also
+    where the number came from."""
+    text = cited(method_label(key))
+    source = point_source(params, inputs) if method in _POINT_METHODS else ""
+    return f"{text} ({source})" if source else text
+
+
+def operating_point_view(params: dict) -> dict | None:
+    """The plant's operating point beside the lab run's, the mode, and whether they differ;
+    ``None`` when the step has no lab series basis."""
+    mode = params.get("operating_point_mode")
+    if not mode or "lab_dosing_time_s" not in params:
+        return None
+    differs = [d.strip() for d in (params.get("operating_point_differences") or "").split(",")
+               if d.strip()]
+    rows = []
+    for name, label, plant_key, lab_key, conv in (
+            ("dosing time", "Dosing time", "plant_dosing_time_s", "lab_dosing_time_s", _MIN),
+            ("temperature", "Temperature", "plant_temperature_k", "lab_temperature_k", _C),
+            ("fill", "Final mass / initial charge", "plant_initial_mass_fraction",
+             "lab_initial_mass_fraction", ("", lambda r: 1 / r))):
+        plant, unit = _show(params.get(plant_key), conv)
+        rows.append({"label": label, "plant": plant, "lab": _show(params.get(lab_key), conv)[0],
+                     "unit": unit, "differs": name in differs})
+    return {"mode": OPERATING_POINT_MODES.get(mode, mode), "mode_key": mode,
+            "basis": cited(params.get("operating_point_basis") or ""), "rows": rows,
+            "differs": differs}
 
 
 def _decomposition_view(d: dict | None) -> dict | None:
@@ -325,7 +412,7 @@ def _step(step: dict, context: dict) -> dict:
         if key == "td24_k" and params.get("td24_label"):
             label = f"{label} ({params['td24_label']})"
         indicator_rows.append({"label": label, "value": value, "unit": unit,
-                               "method": cited(method_label(m)) if m else "—",
+                               "method": method_text(method, m, params, inputs) if m else "—",
                                "method_key": m or ""})
     ser = context.get("series", {}).get(inputs.get("series_sha256") or "")
     td24_low = values.get("td24_below_process_temperature")
@@ -342,6 +429,7 @@ def _step(step: dict, context: dict) -> dict:
         "inputs": input_rows,
         "indicators": indicator_rows,
         "parameters": [parameter_row(k, v) for k, v in sorted(params.items())],
+        "operating_point": operating_point_view(params),
         "warnings": list(snap.get("warnings") or []),
         "mtt_override_reason": step.get("mtt_override_reason") or "",
         "criticality_class": values.get("criticality_class"),

@@ -23,12 +23,20 @@ from hazards.review.selectors import record_history
 from hazards.web import display
 
 try:  # the dossier's labels, so a page and its dossier say the same thing
-    from hazards.dossier.view import method_label, parameter_kind, parameter_row
+    from hazards.dossier.view import (
+        method_text,
+        operating_point_view,
+        parameter_kind,
+        parameter_row,
+    )
 except ImportError:  # pragma: no cover - the dossier app is optional for the pages
-    def method_label(key: str) -> str:
+    def method_text(method: str, key: str, params: dict, inputs: dict) -> str:
         return key
 
     def parameter_kind(key: str) -> str | None:
+        return None
+
+    def operating_point_view(params: dict) -> dict | None:
         return None
 
     def parameter_row(key: str, value) -> dict:
@@ -39,7 +47,7 @@ INDICATORS = [
     ("adiabatic_temperature_rise_k", "Adiabatic temperature rise ΔTad", "temperature_difference",
      "adiabatic_temperature_rise", ("ΔTad", "adiabatic")),
     ("mtsr_k", "MTSR (maximum temperature of the synthesis reaction)", "temperature", "mtsr",
-     ("MTSR",)),
+     ("MTSR", "lab and plant differ")),
     ("mtsr_time_s", "Time of the MTSR maximum", "time", "mtsr", ()),
     ("mtt_k", "MTT (maximum technical temperature)", "temperature", "mtt", ("MTT", "boiling")),
     ("mtt_at_ambient_pressure_k", "MTT at 1 atm (if the vacuum is lost)", "temperature", "mtt",
@@ -53,7 +61,7 @@ INDICATORS = [
     ("risk_cell", "Risk-matrix cell", None, "risk_cell", ("risk",)),
     ("cooling_capacity_w", "Cooling capacity", "power", "cooling_capacity", ("cooling",)),
     ("plant_peak_heat_release_w", "Peak heat release at plant scale", "power",
-     "plant_peak_heat_release", ("peak",)),
+     "plant_peak_heat_release", ("peak", "lab and plant differ")),
     ("cooling_margin", "Cooling margin (capacity / peak)", None, "cooling_margin", ("margin",)),
     ("minimum_dosing_time_s", "Minimum dosing time", "time", "minimum_dosing_time", ("dosing",)),
     ("end_pressure_pa", "Pressure at MTSR (closed vessel)", "pressure", "end_pressure",
@@ -77,6 +85,11 @@ def parameter_rows(snapshot) -> list[dict]:
     return rows
 
 
+def operating_point(snapshot) -> dict | None:
+    """The plant's dosing time, temperature and fill beside the lab run's (as the dossier)."""
+    return None if snapshot is None else operating_point_view(snapshot.parameters or {})
+
+
 def indicator_rows(snapshot) -> list[dict]:
     if snapshot is None:
         return []
@@ -93,7 +106,8 @@ def indicator_rows(snapshot) -> list[dict]:
             display.number(value) if isinstance(value, int | float) else (value or "—"))
         method_key = methods.get(method, "")
         rows.append({
-            "key": key, "label": label, "value": shown, "method": method_label(method_key)
+            "key": key, "label": label, "value": shown, "method": method_text(
+                method, method_key, snapshot.parameters or {}, snapshot.inputs or {})
             if method_key else "—", "method_key": method_key,
             "warnings": [w for w in warnings if any(word.lower() in w.lower() for word in words)]
             if words else [],

@@ -117,6 +117,7 @@ def step_detail(request, pk):
         "measures": step_measures(step, snapshot),
         "indicator_rows": indicators.indicator_rows(snapshot),
         "parameter_rows": indicators.parameter_rows(snapshot),
+        "operating_point": indicators.operating_point(snapshot),
         "groups": groups, "basis": basis, "runs": runs, "tests": tests, "series": series,
         "charts": indicators.chart_images(snapshot, {
             **series.data, "initial_mass_kg": series.initial_mass_kg,

@@ -8,8 +8,14 @@ Processes, ch. 7, semi-batch reactors; METHODS.md §1.1 note on the mass present
 
 from __future__ import annotations
 
-import pytest
+import re
+from html import unescape
 
+import pytest
+from django.test import Client
+
+from hazards.dossier.charts import plant_dosing_curves
+from hazards.dossier.view import _step as dossier_view_step
 from hazards.models import IndicatorSnapshot
 from hazards.services.records import record_update
 from hazards.whatif import services
@@ -63,3 +69,50 @@ def test_the_step_warns_that_lab_and_plant_dosing_times_differ(plant_step):
     assert snap.parameters["operating_point_mode"] == "model"
     assert any("lab and plant differ in dosing time (lab 60 min, plant 180 min)" in w
                for w in snap.warnings), snap.warnings
+
+
+def test_the_step_page_shows_the_lab_basis_beside_the_plants_point(plant_step, admin_user):
+    client = Client()
+    client.force_login(admin_user)
+    html = unescape(" ".join(client.get(f"/steps/{plant_step.pk}/").content.decode().split()))
+    assert "Lab run and plant differ in dosing time: the indicators are evaluated at the " \
+           "plant's point." in html
+    # plant 180 min used, lab run 60 min beside it
+    assert re.search(r"<th scope=\"row\">Dosing time</th><td class=\"num\">180</td>"
+                     r"<td class=\"num\">60</td><td>min <strong>differs</strong>", html), html
+    # the MTSR's method names the model, the plant's time and the lab run
+    run = plant_step.run.pk
+    assert (f"dosing model (series fit) at the plant's 180 min; lab series of calorimetry run "
+            f"#{run}") in html
+
+
+def test_the_dossier_view_words_the_operating_point(plant_step):
+    snap = snapshot(plant_step)
+    view = dossier_view_step({"id": plant_step.pk, "sequence": 1, "name": "s",
+                              "snapshot": {"inputs": snap.inputs, "values": snap.values,
+                                           "methods": snap.methods,
+                                           "parameters": snap.parameters,
+                                           "warnings": snap.warnings}}, {})
+    op = view["operating_point"]
+    assert op["differs"] == ["dosing time"]
+    assert op["mode"] == "dosing model at the plant's dosing time, temperature and fill"
+    assert [(r["label"], r["plant"], r["lab"], r["unit"]) for r in op["rows"]][0] == (
+        "Dosing time", "180", "60", "min")
+    mtsr = next(r for r in view["indicators"] if r["label"] == "MTSR")
+    assert mtsr["method"].startswith("semi-batch: dosing model fitted to the lab series, at "
+                                     "the plant's dosing time")
+    labels = {p["key"]: p for p in view["parameters"]}
+    assert labels["lab_dosing_time_s"]["label"] == "Dosing time of the lab run"
+    assert labels["operating_point_mode"]["value"] == op["mode"]
+
+
+def test_the_power_chart_runs_on_the_plants_time_axis(plant_step):
+    snap = snapshot(plant_step)
+    curves = plant_dosing_curves({"inputs": snap.inputs, "values": snap.values,
+                                  "parameters": snap.parameters})
+    # the largest heat release is the recorded plant peak, at the end of the 180 min feed
+    i = int(curves["heat_release_w"].argmax())
+    assert curves["heat_release_w"][i] == pytest.approx(snap.values["plant_peak_heat_release_w"],
+                                                        rel=1e-9)
+    assert curves["time_s"][i] == pytest.approx(PLANT_TD)
+    assert max(curves["mtsr_k"]) == pytest.approx(snap.values["mtsr_k"], abs=0.05)
