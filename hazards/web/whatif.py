@@ -21,6 +21,7 @@ from hazards.quantities import (
     format_number,
     format_quantity,
     parse_quantity,
+    quantity_text,
 )
 from hazards.review.access import can_edit_process, visible
 from hazards.services.records import StaleRecord
@@ -57,6 +58,11 @@ def _fmt(value, digits=DISPLAY_DIGITS):
 def _q(value, unit, scale=1.0, offset=0.0):
     """A value in SI shown in `unit` (value / scale - offset), '–' when unknown."""
     return "–" if value is None else format_quantity(value / scale - offset, unit)
+
+
+def _qty(value, kind: str) -> str:
+    """A result in the person's display units (`quantity_text`), '–' when unknown."""
+    return "–" if value is None else quantity_text(value, kind)
 
 
 INPUTS = ("dosing_time", "process_temperature", "activation_energy")
@@ -141,21 +147,21 @@ def build_context(request, step) -> dict:
         "profile_img": charts.data_uri(charts.profile_svg(point)),
         "numbers": [
             ("Dosing time", _q(td, "min", 60)),
-            ("Process temperature", _q(tp, "°C", offset=C)),
+            ("Process temperature", _qty(tp, "temperature")),
             ("Rate constant k at this temperature", _q(point.rate_constant_per_s, "1/min",
                                                        1 / 60)),
             ("Maximum accumulation a(t_d)", _fmt(point.max_accumulation)),
             ("Accumulation on the mass basis (gives max MTSR)",
              _fmt(point.effective_accumulation)),
             ("MTSR (maximum over time)", "–" if point.mtsr_k is None else
-             f"{_q(point.mtsr_k, '°C', offset=C)} at {_q(point.mtsr_time_s, 'min', 60)}"),
-            ("Peak heat release, plant", _q(point.peak_heat_release_w, "kW", 1000)),
-            ("Cooling capacity", _q(point.cooling_capacity_w, "kW", 1000)),
+             f"{_qty(point.mtsr_k, 'temperature')} at {_q(point.mtsr_time_s, 'min', 60)}"),
+            ("Peak heat release, plant", _qty(point.peak_heat_release_w, "capacity")),
+            ("Cooling capacity", _qty(point.cooling_capacity_w, "capacity")),
             ("Cooling margin", f"{_fmt(point.cooling_margin, 3)} (site minimum "
              f"{_fmt(point.minimum_cooling_margin)})"),
             ("TMRad at MTSR", _q(point.tmr_ad_at_mtsr_s, "h", 3600)),
-            ("MTT", _q(point.mtt_k, "°C", offset=C)),
-            ("TD24", _q(point.td24_k, "°C", offset=C)),
+            ("MTT", _qty(point.mtt_k, "temperature")),
+            ("TD24", _qty(point.td24_k, "temperature")),
             ("Criticality class", point.criticality_class or "not assigned"),
             ("Fastest acceptable dosing time at this temperature (grid)",
              "none on the grid" if fast != fast else _q(fast, "min", 60)),
@@ -164,7 +170,7 @@ def build_context(request, step) -> dict:
         "fit": model.fit,
         "model_line": (
             f"k = {_q(model.rate_constant_per_s, '1/min', 1 / 60)} at "
-            f"{_q(model.reference_temperature_k, '°C', offset=C)}; E_a "
+            f"{_qty(model.reference_temperature_k, 'temperature')}; E_a "
             + ("not known" if model.activation_energy_j_per_mol is None else
                f"{_q(model.activation_energy_j_per_mol, 'kJ/mol', 1000)} "
                f"({model.activation_energy_source})")

@@ -140,3 +140,18 @@ def test_the_what_if_figures_are_written_by_the_pages_rule(step, admin_user):
     numbers = re.findall(r"<td>([^<]*)</td>", html) + re.findall(r"<dd>([^<]*)</dd>", html)
     assert any("150 min" in n for n in numbers), numbers
     assert not [n for n in numbers if re.search(r"\.\d*0 |\.\d*0$|\de[+-]\d", n)], numbers
+
+
+def test_the_results_follow_the_persons_display_units(step, admin_user):
+    client = browser(admin_user)
+    standard = client.get(f"/steps/{step.pk}/what-if/").content.decode()
+    client.post("/preferences/", {"temperature_unit": "degF", "power_unit": "watt",
+                                  "pressure_unit": "bar"})
+    html = client.get(f"/steps/{step.pk}/what-if/").content.decode()
+    # Tp 303.15 K = 30 °C = 86 °F (exact scale definitions, NIST SP 811 B.8).
+    tp = ReactionStep.objects.get(pk=step.pk).process_temperature_k
+    assert tp == pytest.approx(303.15)
+    assert "<dt>Process temperature</dt><dd>30 °C</dd>" in standard
+    assert "<dt>Process temperature</dt><dd>86 °F</dd>" in html
+    assert re.search(r"<dt>Cooling capacity</dt><dd>[\d.]+ kW</dd>", standard)
+    assert re.search(r"<dt>Cooling capacity</dt><dd>[\d.]+ W</dd>", html)
