@@ -82,14 +82,22 @@ class InputModel(models.Model):
         return result
 
 
-def tracked(**kwargs):
+def tracked(*, scope: tuple[str, ...] = (), **kwargs):
     """Audit every insert, update and delete of a model in an append-only event table.
 
     The event table gets an index of (record, event id): a history page looks up the event
     before each row it shows (for "from -> to") through it, instead of reading every event of
-    a record that has tens of thousands."""
+    a record that has tens of thousands. And one of (record, time, event id) plus one per
+    `scope` field (the process or step a process's history selects the table's events by) of
+    (field, time, event id): a history page reads its newest (or next older) rows in the
+    history's order (`hazards.review.history`) straight from them, not by sorting every
+    event of the record or process."""
     meta = dict(kwargs.pop("meta", None) or {})
-    meta.setdefault("indexes", [models.Index(fields=["pgh_obj", "pgh_id"])])
+    meta.setdefault("indexes", [
+        models.Index(fields=["pgh_obj", "pgh_id"]),
+        models.Index(fields=["pgh_obj", "pgh_created_at", "pgh_id"]),
+        *(models.Index(fields=[field, "pgh_created_at", "pgh_id"]) for field in scope),
+    ])
     return pghistory.track(
         pghistory.InsertEvent(), pghistory.UpdateEvent(), pghistory.DeleteEvent(), meta=meta,
         **kwargs

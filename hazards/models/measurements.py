@@ -9,7 +9,7 @@ from django.db.models import Q
 from hazards.models.base import InputModel, tracked
 
 
-@tracked()
+@tracked(scope=("step",))
 class CalorimetryRun(InputModel):
     step = models.ForeignKey(
         "hazards.ReactionStep", on_delete=models.CASCADE, related_name="calorimetry_runs"
@@ -72,7 +72,7 @@ class DecompositionMethod(models.TextChoices):
     ADIABATIC = "adiabatic", "Adiabatic calorimetry"
 
 
-@tracked()
+@tracked(scope=("step",))
 class DecompositionTest(InputModel):
     step = models.ForeignKey(
         "hazards.ReactionStep", on_delete=models.CASCADE, related_name="decomposition_tests"

@@ -63,7 +63,7 @@ class SystemKind(models.TextChoices):
     CLOSED = "closed", "Closed (pressure rises to relief)"
 
 
-@tracked()
+@tracked(scope=("process",))
 class ReactionStep(InputModel):
     process = models.ForeignKey(Process, on_delete=models.CASCADE, related_name="steps")
     sequence = models.PositiveIntegerField()

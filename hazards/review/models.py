@@ -73,7 +73,7 @@ def _append_only(name: str):
     return pgtrigger.Protect(name=name, operation=pgtrigger.Update | pgtrigger.Delete)
 
 
-@tracked()
+@tracked(scope=("process",))
 class ProcessRole(models.Model):
     """A person's role on one process; the only thing that grants access to it."""
 
@@ -98,7 +98,7 @@ class ProcessRole(models.Model):
         return f"{self.user} is {self.role} of process {self.process_id}"
 
 
-@tracked()
+@tracked(scope=("process",))
 class ProcessRevision(models.Model):
     """One numbered revision of a process: the canonical content that was (or will be) signed."""
 
@@ -301,7 +301,7 @@ class FindingStatus(models.TextChoices):
 UNSETTLED_FINDING = (FindingStatus.OPEN, FindingStatus.READY_FOR_CHECK)
 
 
-@tracked()
+@tracked(scope=("process",))
 class Finding(models.Model):
     """A finding of a reviewer or approver, with an action owner and a due date."""
 
