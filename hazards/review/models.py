@@ -98,6 +98,30 @@ class ProcessRole(models.Model):
         return f"{self.user} is {self.role} of process {self.process_id}"
 
 
+class ProcessListState(models.Model):
+    """The review state a process list shows and sorts by (the open revision's, else the
+    newest revision's; null before the first revision) beside the process's name, kept by
+    triggers in the transaction of the revision or name change (migration
+    review.0012_process_list_state), so that the list sorted or filtered by state reads one
+    index of (state, name, process) instead of working out every process's state and
+    sorting them all. Derived data: not in the audit trail (the revisions and the process
+    are)."""
+
+    process = models.OneToOneField(
+        "hazards.Process", on_delete=models.CASCADE, primary_key=True, related_name="list_state"
+    )
+    review_state = models.CharField(max_length=10, choices=ReviewState.choices, null=True)
+    name = models.CharField(max_length=200)
+
+    class Meta:
+        indexes = [
+            models.Index(
+                models.F("review_state").asc(nulls_first=True), "name", "process",
+                name="process_state_name_idx",
+            )
+        ]
+
+
 @tracked(scope=("process",))
 class ProcessRevision(models.Model):
     """One numbered revision of a process: the canonical content that was (or will be) signed."""

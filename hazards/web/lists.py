@@ -19,7 +19,9 @@ PROCESS_SORTS = {
     "name": ("Name", [F("name").asc()]),
     "-name": ("Name, Z to A", [F("name").desc()]),
     "site": ("Site", [F("site__code").asc(), F("name").asc()]),
-    "state": ("Review state", [F("review_state").asc(nulls_first=True), F("name").asc()]),
+    # The name as the state's row keeps it: one index of (state, name, process) gives the order.
+    "state": ("Review state", [F("review_state").asc(nulls_first=True),
+                               F("list_state__name").asc()]),
     "-updated": ("Recently changed", [F("updated_at").desc()]),
 }
 STEP_SORTS = {

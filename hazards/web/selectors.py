@@ -56,10 +56,14 @@ def review_state_subquery():
 
 
 def processes_with_state(user):
+    """Processes with `review_state` (that of `review_state_subquery`) read from the row the
+    revision triggers keep (`ProcessListState`), an inner join, so that a list sorted or
+    filtered by state walks the (state, name, process) index from its start."""
     endorsed = ProcessRevision.objects.filter(process=OuterRef("pk"),
                                               state=ReviewState.ENDORSED)
-    return visible(user, Process.objects.select_related("site")).annotate(
-        review_state=review_state_subquery(), endorsed=Exists(endorsed))
+    return (visible(user, Process.objects.select_related("site"))
+            .filter(list_state__isnull=False)
+            .annotate(review_state=F("list_state__review_state"), endorsed=Exists(endorsed)))
 
 
 def waiting_for(user) -> dict:

@@ -111,3 +111,40 @@ def test_the_event_before_a_row_is_found_through_the_record_index(process):
     cond = [line for line in plan.splitlines() if "Index Cond" in line]
     assert cond and "pgh_obj_id" in cond[0] and "pgh_id <" in cond[0], plan
     assert "Sort" not in plan, plan
+
+
+def _plan_without_sorting(sql, params) -> str:
+    from django.db import transaction
+
+    with transaction.atomic(), connection.cursor() as cursor:
+        for setting in ("enable_seqscan", "enable_bitmapscan", "enable_sort"):
+            cursor.execute(f"SET LOCAL {setting} = off")  # as for a trail of 50 000 events
+        cursor.execute("EXPLAIN " + sql, params)
+        return "\n".join(row[0] for row in cursor.fetchall())
+
+
+@pytest.mark.parametrize("older_than_a_key", [False, True])
+def test_a_history_page_reads_each_table_in_the_history_order_from_an_index(
+    process, older_than_a_key
+):
+    """The newest (or next older) rows of the process's own events and of its steps' come from
+    the (record, time, event id) and (process, time, event id) indexes: no sort of every
+    event of a process with tens of thousands (the bench's long history)."""
+    from hazards.models import ReactionStep
+    from hazards.review import history
+    from hazards.review.selectors import event_model_for
+
+    _edit(process, 3)
+    key = None
+    if older_than_a_key:
+        key = history.decode_key(history.history_page(history.process_sources(process),
+                                                      limit=2).older)
+    for model, condition in history.process_sources(process):
+        if model not in (event_model_for(Process), event_model_for(ReactionStep)):
+            continue
+        qs = model.objects.filter(condition)
+        if key is not None:
+            qs = qs.filter(history._beyond(model._meta.label, key, older=True))
+        page = qs.order_by("-pgh_created_at", "-pgh_id").values("pgh_id")[:51]
+        plan = _plan_without_sorting(*page.query.sql_with_params())
+        assert "Sort" not in plan and "Index" in plan, (model, plan)

@@ -233,3 +233,58 @@ def test_the_start_page_reads_flagged_steps_and_live_counts_from_their_indexes(p
     counts = ProcessClassCount.objects.filter(steps__gt=0, process_id__in=[process.pk])
     assert "class_count_live_idx" in _plan(counts.values("process_id", "klass", "steps")), (
         _plan(counts))
+
+
+def _state_by_subquery() -> dict:
+    from hazards.models import Process
+
+    return dict(Process.objects.annotate(s=selectors.review_state_subquery())
+                .values_list("pk", "s"))
+
+
+def _state_kept() -> dict:
+    from hazards.review.models import ProcessListState
+
+    return dict(ProcessListState.objects.values_list("process_id", "review_state"))
+
+
+def test_the_kept_list_state_follows_revisions_and_renames(people, process, lodged):
+    """The state row of every process (kept by triggers) is the open revision's, else the
+    newest's, else none, through lodging, sending back, a new draft and a rename."""
+    from hazards.models import Process
+    from hazards.review.models import ProcessRevision, ReviewState
+
+    fresh = ProcessFactory()  # no revision: no state
+    assert _state_kept() == _state_by_subquery()
+    assert _state_kept()[process.pk] == "lodged" and _state_kept()[fresh.pk] is None
+    # Revisions change state only through the review services in the application; the
+    # trigger follows any change of the column (the guard trigger allows this transition).
+    ProcessRevision.objects.filter(pk=lodged.pk).update(state=ReviewState.SENT_BACK)
+    assert _state_kept()[process.pk] == "sent_back" == _state_by_subquery()[process.pk]
+    ProcessRevision.objects.create(process=process, number=2)  # a new draft
+    assert _state_kept()[process.pk] == "drafting" == _state_by_subquery()[process.pk]
+    Process.objects.filter(pk=fresh.pk).update(name="Renamed route")
+    from hazards.review.models import ProcessListState
+
+    assert ProcessListState.objects.get(pk=fresh.pk).name == "Renamed route"
+    assert _state_kept() == _state_by_subquery()
+
+
+@pytest.mark.parametrize("state", ["", "lodged"])
+def test_processes_by_state_read_the_state_name_index_and_sort_nothing(people, process, state):
+    from hazards import keyset
+    from hazards.web.lists import PROCESS_SORTS
+
+    qs = selectors.processes_with_state(people["reviewer"])
+    if state:
+        qs = qs.filter(review_state=state)
+    qs = qs.order_by(*PROCESS_SORTS["state"][1], "pk")
+    keys = keyset.keys_of(qs)
+    page = keyset.annotated(qs, keys).order_by(*(k.order() for k in keys))[:21]
+    sql, params = page.query.sql_with_params()
+    with transaction.atomic(), connection.cursor() as cursor:
+        for setting in ("enable_seqscan", "enable_bitmapscan", "enable_sort"):
+            cursor.execute(f"SET LOCAL {setting} = off")  # as on a large table
+        cursor.execute("EXPLAIN " + sql, params)
+        plan = "\n".join(row[0] for row in cursor.fetchall())
+    assert "process_state_name_idx" in plan and "Sort" not in plan, plan
