@@ -110,7 +110,10 @@ class ProcessListState(models.Model):
     process = models.OneToOneField(
         "hazards.Process", on_delete=models.CASCADE, primary_key=True, related_name="list_state"
     )
-    review_state = models.CharField(max_length=10, choices=ReviewState.choices, null=True)
+    # NULL, not "": no revision yet, as the state the lists filter ("none") and sort first.
+    review_state = models.CharField(  # noqa: DJ001
+        max_length=10, choices=ReviewState.choices, null=True
+    )
     name = models.CharField(max_length=200)
 
     class Meta:
@@ -120,6 +123,9 @@ class ProcessListState(models.Model):
                 name="process_state_name_idx",
             )
         ]
+
+    def __str__(self) -> str:
+        return f"{self.name}: {self.review_state or 'no revision'}"
 
 
 @tracked(scope=("process",))
