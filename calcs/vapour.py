@@ -26,6 +26,7 @@ from calcs.errors import (
     require_finite,
     require_positive,
 )
+from calcs.units import to_si
 
 REFERENCES = ("poling2001",)
 
@@ -52,8 +53,6 @@ class AntoineInputs:
 
 @lru_cache(maxsize=64)
 def _pascal_per(unit: str) -> float:
-    from calcs.units import to_si  # pint only at the edge, once per unit
-
     return to_si(1.0, unit, "pressure")
 
 
@@ -210,7 +209,8 @@ def antoine_from_chemicals(cas: str) -> AntoineInputs | None:
     ----------
     Poling, Prausnitz, O'Connell 2001, via chemicals.vapor_pressure.Psat_data_AntoinePoling.
     """
-    from chemicals.vapor_pressure import Psat_data_AntoinePoling as data
+    # chemicals reads its Antoine table (~0.2 s) only when a CAS number is looked up.
+    from chemicals.vapor_pressure import Psat_data_AntoinePoling as data  # noqa: PLC0415 — lazy data
 
     if cas not in data.index:
         return None

@@ -1,4 +1,5 @@
 from django.apps import AppConfig
+from django.db.models.signals import post_migrate
 
 
 class HazardsConfig(AppConfig):
@@ -7,14 +8,13 @@ class HazardsConfig(AppConfig):
     default_auto_field = "django.db.models.BigAutoField"
 
     def ready(self) -> None:
-        from django.db.models.signals import post_migrate
-
-        from hazards import checks  # noqa: F401  (registers system checks)
-        from hazards.dbroles import ensure_app_role_after_migrate
-        from hazards.models.base import inputs_written
-        from hazards.services.indicators import on_inputs_written
+        # Here and not at the top: these read models, which exist once the registry is ready
+        # (Django's place for it); `checks` registers the system checks by being imported.
+        from hazards import checks, dbroles  # noqa: F401, PLC0415 — app registry (above)
+        from hazards.services import indicators  # noqa: PLC0415 — app registry (above)
 
         # After every migrate, as the owner: the application's role and its grants.
-        post_migrate.connect(ensure_app_role_after_migrate, sender=self)
+        post_migrate.connect(dbroles.ensure_app_role_after_migrate, sender=self)
         # Models announce written inputs; the indicator recompute subscribes (same transaction).
-        inputs_written.connect(on_inputs_written, dispatch_uid="indicators-recompute")
+        indicators.inputs_written.connect(indicators.on_inputs_written,
+                                          dispatch_uid="indicators-recompute")

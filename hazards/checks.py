@@ -4,6 +4,9 @@ from __future__ import annotations
 
 from django.conf import settings
 from django.core.checks import Error, Warning, register
+from django.db import DatabaseError
+
+from hazards.dbroles import role_problems
 
 
 @register()
@@ -33,9 +36,6 @@ def application_role_cannot_rewrite_history(app_configs=None, **kwargs):
 
     Asked of the database; skipped when it cannot be reached (the other deployment checks
     need none)."""
-    from django.db import DatabaseError
-
-    from hazards.dbroles import role_problems
 
     try:
         problems = role_problems("default")

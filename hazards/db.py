@@ -7,6 +7,7 @@ same in the demo, the test suite and production.
 from __future__ import annotations
 
 import os
+import warnings
 from pathlib import Path
 
 import dj_database_url
@@ -28,12 +29,10 @@ def data_dir() -> Path:
 def _embedded_url() -> str:
     """Start (or join) the embedded server and return a URL to the project's database."""
     try:
-        import warnings
-
         with warnings.catch_warnings():
             # platformdirs warns when XDG_RUNTIME_DIR is unset (headless servers, CI).
             warnings.simplefilter("ignore")
-            import pgserver
+            import pgserver  # noqa: PLC0415 — only without DATABASE_URL; ImportError explained
     except ImportError as exc:  # pragma: no cover - pgserver is a declared dependency
         raise ImproperlyConfigured(
             "DATABASE_URL is not set and the embedded PostgreSQL (pgserver) is not installed."
@@ -95,7 +94,8 @@ def databases(*, testing: bool) -> dict:
 def owner_alias() -> str:
     """The alias that owns the schema: `owner` when the application has its own role
     (`migrate` itself points `default` at the owner while it runs)."""
-    from django.db import connections
+    # settings.py imports this module: django.db must not load while settings are read.
+    from django.db import connections  # noqa: PLC0415 — settings import this module
 
     return "owner" if "owner" in connections.settings else "default"
 

@@ -16,6 +16,7 @@ from django.db import connections
 from psycopg import sql
 
 from hazards.db import app_role
+from hazards.review.audit import event_models
 
 log = logging.getLogger(__name__)
 
@@ -24,8 +25,6 @@ CHAIN_TABLE = "review_chainlink"
 
 def protected_tables(using: str = "default") -> list[str]:
     """The append-only tables: every pghistory event table and the chain links."""
-    from hazards.review.audit import event_models
-
     names = [m._meta.db_table for m in event_models()] + [CHAIN_TABLE]
     with connections[using].cursor() as cursor:
         cursor.execute(

@@ -29,7 +29,10 @@ from hazards.models import (
     Solvent,
     Vessel,
 )
+from hazards.oversight.demo import load_oversight_demo
+from hazards.review.demo import load_review_demo
 from hazards.services.indicators import flush_pending
+from hazards.whatif.demo import load_whatif_demo
 
 ROLES = ("author", "reviewer", "approver", "auditor", "admin")
 C = 273.15  # °C -> K
@@ -169,7 +172,6 @@ def load_demo() -> dict:
                           design_pressure_pa=pd * BAR, relief_set_pressure_pa=pr * BAR,
                           headspace_volume_m3=head),
         )[0]
-    from django.contrib.auth import get_user_model
 
     owner = get_user_model().objects.get(username="author")
     processes = [
@@ -225,15 +227,12 @@ def load_demo() -> dict:
                 test=test, heating_rate_k_per_s=beta_k_min / 60.0,
                 defaults={"peak_temperature_k": peak_c + C},
             )
-    from hazards.whatif.demo import load_whatif_demo  # generated series for the what-if page
 
     load_whatif_demo()
     flush_pending()
     load_measures_demo()
-    from hazards.review.demo import load_review_demo  # the review lives in its own app
 
     load_review_demo(password)
-    from hazards.oversight.demo import load_oversight_demo  # due dates, change policy
 
     load_oversight_demo()
     return {"password": password, "generated": generated, "users": ROLES}

@@ -6,6 +6,7 @@ import django_filters as df
 from django import forms
 from django.db import models
 from django.db.models import Exists, OuterRef
+from django.utils import timezone
 from django_filters.filterset import FILTER_FOR_DBFIELD_DEFAULTS
 
 from hazards.models import (
@@ -166,8 +167,6 @@ class TokenFilter(StrictFilterSet):
         return queryset.filter(user__service_account__isnull=not value)
 
     def filter_state(self, queryset, name, value):
-        from django.utils import timezone
-
         now = timezone.now()
         if value == "revoked":
             return queryset.filter(revoked_at__isnull=False)

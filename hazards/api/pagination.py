@@ -9,6 +9,7 @@ ordering, so page 1000 costs what page 1 costs. `?offset=` still works, up to `M
 
 from __future__ import annotations
 
+from drf_spectacular.utils import OpenApiParameter
 from rest_framework.exceptions import ValidationError
 from rest_framework.pagination import LimitOffsetPagination
 from rest_framework.response import Response
@@ -225,8 +226,6 @@ class KeyedHistoryPagination(StrictLimitOffsetPagination):
         )
 
     def schema_parameters(self) -> list:
-        from drf_spectacular.utils import OpenApiParameter
-
         return [
             OpenApiParameter(
                 self.limit_query_param,

@@ -14,12 +14,11 @@
 
 from __future__ import annotations
 
-import importlib.util
-
 from django.db.models import Prefetch
 
 import calcs
 from calcs.constants import REFERENCES
+from hazards.dossier import review_bridge
 from hazards.dossier.decomposition_charts import evidence
 from hazards.models import (
     CalorimetryRun,
@@ -30,6 +29,7 @@ from hazards.models import (
     Process,
     ReactionStep,
 )
+from hazards.oversight.revalidation import flag_json, process_flag
 from hazards.services.indicators import (
     DOSSIER_LIBRARIES,
     canonical_json,
@@ -39,15 +39,6 @@ from hazards.services.indicators import (
 
 SCHEMA = "exoledger.dossier/1"
 SERIES_POINTS = 400  # enough for a chart, small enough to freeze in every dossier
-
-
-def review_available() -> bool:
-    """True once the review app (issue 5) is installed."""
-    from django.apps import apps
-
-    return importlib.util.find_spec("hazards.review") is not None and apps.is_installed(
-        "hazards.review"
-    )
 
 
 def _iso(value) -> str | None:
@@ -268,19 +259,11 @@ def _indicator_history(step_ids: list[int], since=None) -> list[dict]:
 def _revalidation(process: Process) -> dict | None:
     """Revalidation and open-change state of the process on the day the dossier is issued
     (hazards.oversight), frozen into the context like everything else it shows."""
-    from django.apps import apps
-
-    if not apps.is_installed("hazards.oversight"):
-        return None
-    from hazards.oversight.revalidation import flag_json, process_flag
-
     return flag_json(process_flag(process))
 
 
 def dossier_content(process: Process, revision=None) -> dict:
     """The frozen content of a dossier of `revision` (None: the process's current state)."""
-    from hazards.dossier import review_bridge
-
     if revision is not None:
         record = revision.content
         revision_info = review_bridge.revision_info(revision)

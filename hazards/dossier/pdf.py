@@ -42,7 +42,7 @@ class RefusedURL(ValueError):
 
 
 def make_fetcher(charts: dict[str, str]):
-    from weasyprint.urls import URLFetcher, URLFetcherResponse
+    from weasyprint.urls import URLFetcher, URLFetcherResponse  # noqa: PLC0415 — see preload
 
     class DossierFetcher(URLFetcher):
         """Charts of this job and the project's static files; nothing else."""
@@ -74,9 +74,11 @@ def _content_type(path: Path) -> str:
 
 
 def preload() -> None:
-    """Import WeasyPrint and its text stack ahead of a render (half a second or more)."""
-    import weasyprint  # noqa: F401
-    import weasyprint.text.fonts  # noqa: F401
+    """Import WeasyPrint and its text stack ahead of a render (half a second or more).
+
+    WeasyPrint (Pango through cffi) is imported only by the render child, never by the web
+    and worker processes that import this module for PdfJob: hence the imports in functions."""
+    import weasyprint.text.fonts  # noqa: F401, PLC0415 — heavy, render child only
 
 
 def _unique_associated_files(_document, pdf) -> None:
@@ -91,17 +93,17 @@ def write_pdf(job: PdfJob) -> bytes:
     when = record_datetime(job.record_date)
     # fontTools, when it subsets instead of HarfBuzz, stamps fonts with this time.
     os.environ["SOURCE_DATE_EPOCH"] = str(int(when.timestamp()))
-    from weasyprint import HTML, Attachment
-    from weasyprint.text.fonts import FontConfiguration
+    import weasyprint.text.fonts  # noqa: PLC0415 — see preload
 
     fetcher = make_fetcher(job.charts)
-    fonts = FontConfiguration()
+    fonts = weasyprint.text.fonts.FontConfiguration()
     # In name order: WeasyPrint writes the embedded-files name tree in the order given, and a
     # name tree's keys must be sorted (ISO 32000-1 §7.9.6); qpdf reports unsorted ones.
     attachments = [
-        Attachment(string=a["content"], name=a["name"], description=a.get("description"),
-                   relationship=a.get("relationship", "Source"), created=when, modified=when,
-                   url_fetcher=fetcher)
+        weasyprint.Attachment(string=a["content"], name=a["name"],
+                              description=a.get("description"),
+                              relationship=a.get("relationship", "Source"), created=when,
+                              modified=when, url_fetcher=fetcher)
         for a in sorted(job.attachments, key=lambda a: a["name"].encode("utf-8"))
     ]
     # The cyclic garbage collector is paused for the render. WeasyPrint keeps the whole
@@ -114,8 +116,8 @@ def write_pdf(job: PdfJob) -> bytes:
     paused = gc.isenabled()
     gc.disable()
     try:
-        document = HTML(string=job.html, base_url=STATIC_DIR.as_uri() + "/",
-                        url_fetcher=fetcher)
+        document = weasyprint.HTML(string=job.html, base_url=STATIC_DIR.as_uri() + "/",
+                                   url_fetcher=fetcher)
         return document.write_pdf(font_config=fonts, pdf_variant=PDF_VARIANT,
                                   attachments=attachments, uncompressed_pdf=False,
                                   finisher=_unique_associated_files)

@@ -1,21 +1,21 @@
-"""The dossier's only contact with the review workflow (app label `review`, issue 5).
-
-Everything here degrades to "no revision" while the review app is not installed, so the
-dossier of a process can be rendered from its current state.
-"""
+"""The dossier's only contact with the review workflow (hazards.review): revisions, their
+signatures, findings, history and the audit chain's head, as the plain values a dossier
+freezes. A process without a signed revision gets "no revision" (its dossier is rendered
+from its current state)."""
 
 from __future__ import annotations
 
-from django.apps import apps
-
-from hazards.review.selectors import credentials_changed_at, credentials_note
-
-
-def _model(name: str):
-    try:
-        return apps.get_model("review", name)
-    except LookupError:
-        return None
+from hazards.review.anchors import current_head
+from hazards.review.audit import head_hash
+from hazards.review.models import (
+    Finding,
+    ProcessRevision,
+    RiskAcceptance,
+    Signature,
+    Transition,
+)
+from hazards.review.selectors import approval_status, credentials_changed_at, credentials_note
+from hazards.review.services.revisions import revision_content, revisions_reconcile
 
 
 def _iso(value) -> str | None:
@@ -31,32 +31,19 @@ def latest_revision(process, *, reconcile: bool = False):
     With `reconcile`, review's own service first replaces signed revisions whose content no
     longer matches the process, so a dossier never presents a superseded revision as current.
     """
-    ProcessRevision = _model("ProcessRevision")
-    if ProcessRevision is None:
-        return None
     if reconcile:
-        from hazards.review.services.revisions import revisions_reconcile
-
         revisions_reconcile(process=process)
     return (ProcessRevision.objects.filter(process=process, state__in=SIGNED)
             .order_by("-number", "-pk").first())
 
 
 def live_content(process) -> dict | None:
-    """Review's canonical content of the process as it is now (None without the review app)."""
-    if _model("ProcessRevision") is None:
-        return None
-    from hazards.review.services.revisions import revision_content
-
+    """Review's canonical content of the process as it is now."""
     return revision_content(process)
 
 
 def approval(process) -> dict | None:
     """Which revision is in force and what is pending (review's `approval_status`)."""
-    if _model("ProcessRevision") is None:
-        return None
-    from hazards.review.selectors import approval_status
-
     return approval_status(process)
 
 
@@ -75,8 +62,7 @@ def revision_info(revision) -> dict:
 
 def risk_acceptances(revision) -> list[dict]:
     """The approver's signed risk acceptances of unmet required measures on `revision`."""
-    RiskAcceptance = _model("RiskAcceptance")
-    if RiskAcceptance is None or revision is None:
+    if revision is None:
         return []
     return [{"printed_name": a.printed_name, "signed_at": _iso(a.signed_at),
              "step": a.step_id, "requirement": a.requirement, "reason": a.reason,
@@ -85,9 +71,6 @@ def risk_acceptances(revision) -> list[dict]:
 
 
 def signatures(revision) -> list[dict]:
-    Signature = _model("Signature")
-    if Signature is None:
-        return []
     out = []
     rows = list(Signature.objects.filter(revision=revision).order_by("signed_at", "pk"))
     changed = credentials_changed_at(rows)
@@ -108,12 +91,7 @@ def signatures(revision) -> list[dict]:
 
 
 def findings(process, revision) -> list[dict]:
-    Finding = _model("Finding")
-    if Finding is None:
-        return []
-    names = {f.name for f in Finding._meta.get_fields()}
-    rows = Finding.objects.filter(process=process) if "process" in names else \
-        Finding.objects.filter(revision__process=process)
+    rows = Finding.objects.filter(process=process)
     out = []
     for f in rows.select_related("owner").order_by("pk"):
         owner = f.owner
@@ -138,9 +116,6 @@ def last_approved_before(revision) -> dict | None:
 
 def last_approved_before_number(process, number) -> dict | None:
     """The newest approved revision of the process (before revision `number` if given)."""
-    ProcessRevision = _model("ProcessRevision")
-    if ProcessRevision is None:
-        return None
     rows = ProcessRevision.objects.filter(process=process, signatures__meaning="approved")
     if number is not None:
         rows = rows.filter(number__lt=number)
@@ -153,9 +128,6 @@ def last_approved_before_number(process, number) -> dict | None:
 
 def history(process, revision, since) -> list[dict]:
     """Every state change of the revisions after the last approved one, up to `revision`."""
-    Transition = _model("Transition")
-    if Transition is None:
-        return []
     rows = Transition.objects.filter(revision__process=process)
     if revision is not None:
         rows = rows.filter(revision__number__lte=revision.number)
@@ -172,17 +144,9 @@ def history(process, revision, since) -> list[dict]:
 
 
 def audit_head_hash() -> str | None:
-    try:
-        from hazards.review.audit import head_hash
-    except ImportError:
-        return None
     return head_hash()
 
 
 def audit_head() -> dict | None:
     """The chain's keyed head {"seq", "hash", "mac"}: `verify` checks the chain against it."""
-    try:
-        from hazards.review.anchors import current_head
-    except ImportError:
-        return None
     return current_head()

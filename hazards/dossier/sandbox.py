@@ -15,6 +15,8 @@ import resource
 import sys
 from collections.abc import Mapping
 
+from hazards.dossier.pdf import PdfJob, preload, write_pdf
+
 EXIT_MEMORY = 3
 EXIT_ERROR = 4
 
@@ -62,8 +64,6 @@ def main(argv: list[str]) -> int:
             return EXIT_ERROR  # the parent gave up before sending a job
         # The parent draws the charts meanwhile: the import and the first part of the layout
         # (HTML, styles) cost no time of the render. The charts are read at the first one.
-        from hazards.dossier.pdf import PdfJob, preload, write_pdf
-
         preload()
         job_data["charts"] = LateCharts(sys.stdin.buffer)
         pdf = write_pdf(PdfJob(**job_data))

@@ -14,8 +14,12 @@ import io
 import re
 from dataclasses import asdict, dataclass, field
 
+import pikepdf
 from django.conf import settings
 
+from hazards.dossier.content import content_hashes, current_state_record
+from hazards.dossier.models import Dossier, DossierStatus
+from hazards.dossier.review_bridge import latest_revision
 from hazards.services.indicators import canonical_json, sha256_hex
 
 KEYWORD_RE = re.compile(r"(\w[\w-]*)=([0-9a-fA-F]+|\d+)")
@@ -88,10 +92,6 @@ def verify_pdf(data: bytes, *, dossiers=None) -> Verification:
     itself says, and no word from the database (not even whether the seal holds), so a
     relabelled PDF reveals nothing of a process the caller cannot see.
     """
-    import pikepdf
-
-    from hazards.dossier.content import content_hashes
-    from hazards.dossier.models import Dossier, DossierStatus
 
     v = Verification(sha256=hashlib.sha256(data).hexdigest())
     try:
@@ -166,11 +166,8 @@ def verify_pdf(data: bytes, *, dossiers=None) -> Verification:
 
 def _revision_current(dossier) -> bool:
     """Whether the dossier still shows what the process is now."""
-    from hazards.dossier.content import current_state_record, review_available
-    from hazards.dossier.review_bridge import latest_revision
-
     rev = dossier.content.get("context", {}).get("revision")
-    if rev is not None and review_available():
+    if rev is not None:
         latest = latest_revision(dossier.process)
         return latest is not None and latest.pk == rev["id"]
     now = canonical_json(current_state_record(dossier.process))

@@ -9,6 +9,7 @@ class OversightConfig(AppConfig):
     verbose_name = "Revalidation, change records and notifications"
 
     def ready(self) -> None:
-        from hazards.oversight import hooks
+        # Models exist once the registry is ready (Django's place for it).
+        from hazards.oversight import hooks  # noqa: PLC0415 — app registry
 
         hooks.connect()

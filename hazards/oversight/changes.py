@@ -15,8 +15,10 @@ import math
 from django.contrib.auth import get_user_model
 from django.db import connections, transaction
 from django.db.models import Q
+from pghistory import runtime
 
-from hazards.models import IndicatorSnapshot, ReactionStep
+from hazards.models import IndicatorSnapshot, Process, ReactionStep
+from hazards.oversight import queue
 from hazards.oversight.models import (
     ChangeEntry,
     ChangePolicy,
@@ -24,6 +26,7 @@ from hazards.oversight.models import (
     ChangeState,
     ReviewPath,
 )
+from hazards.review.models import Meaning, ProcessRevision, Signature
 
 
 def flatten(data: dict | None, prefix: str = "") -> dict:
@@ -83,8 +86,6 @@ def change_context(using: str = "default") -> dict:
     """Who made the change and why: the pghistory context of this transaction (the request's
     user and URL, the `reason` of the change), read from Python or from the database session
     (where raw SQL may have set it)."""
-    from pghistory import runtime
-
     tracker = getattr(runtime._tracker, "value", None)
     if tracker is not None:
         return dict(tracker.metadata)
@@ -108,8 +109,6 @@ def _user_id(metadata: dict, using: str) -> int | None:
 
 def _last_approvals(process_ids, using) -> dict[int, int]:
     """process id -> id of its most recently approved revision."""
-    from hazards.review.models import Meaning, Signature
-
     rows = (Signature.objects.using(using)
             .filter(meaning=Meaning.APPROVED, revision__process_id__in=process_ids)
             .order_by("revision__process_id", "-signed_at", "-id")
@@ -200,8 +199,6 @@ def record_changes(*, steps: dict[int, bool], snapshots: dict, previous: dict,
             entry.record_id = record.pk
         ChangeEntry.objects.using(using).bulk_create([e for _, e in entries])
     if opened:
-        from hazards.oversight import queue
-
         queue.approval_lapsed_later({r.approved_revision_id for r in opened
                                       if r.approved_revision_id}, using=using)
     return opened
@@ -230,9 +227,6 @@ def light_path(*, revision, content: dict, lock: bool = False,
     changed, with no indicator beyond the site's tolerances (re-evaluated now) and the same
     criticality class. `lock` takes the policy and record rows (inside the signing
     transaction) so that neither can change before the signature commits."""
-    from hazards.models import Process
-    from hazards.review.models import ProcessRevision
-
     site_id = Process._base_manager.using(using).filter(pk=revision.process_id).values_list(
         "site_id", flat=True).first()
     policies = ChangePolicy.objects.using(using).filter(site_id=site_id)

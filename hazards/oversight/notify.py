@@ -11,6 +11,7 @@ from __future__ import annotations
 import datetime as dt
 from dataclasses import dataclass, field
 
+from django.apps import apps
 from django.conf import settings
 from django.contrib.auth import get_user_model
 from django.core.mail import send_mail
@@ -18,10 +19,19 @@ from django.db import IntegrityError, transaction
 from django.utils import timezone
 
 from hazards.models import Measure, MeasurePolicy, MeasureStatus
-from hazards.oversight.dates import OVERDUE, due_state
-from hazards.oversight.models import Kind, Notification, NotificationPreference
+from hazards.oversight.dates import DEFAULT_SOURCE, OVERDUE, due_state
+from hazards.oversight.models import (
+    ChangePolicy,
+    ChangeRecord,
+    Kind,
+    Notification,
+    NotificationPreference,
+)
+from hazards.oversight.readable import describe
+from hazards.oversight.revalidation import active_schedules
 from hazards.quantities import STANDARD_UNITS, display_units
 from hazards.review.access import roles_on
+from hazards.review.models import Finding, FindingStatus, ProcessRole, ReviewState
 
 CAUTION = ("Exoledger supports and does not replace a qualified assessment; local codes, "
            "company standards and licensed practice prevail.")
@@ -49,23 +59,17 @@ def key_of(obj) -> str:
 
 
 def _people_with_roles(process_id: int, roles, exclude=()) -> list:
-    from hazards.review.models import ProcessRole
-
     ids = (ProcessRole.objects.filter(process_id=process_id, role__in=roles)
            .exclude(user_id__in=list(exclude)).values("user_id"))
     return list(get_user_model().objects.filter(pk__in=ids, is_active=True).order_by("pk"))
 
 
 def _owner_if_on_process(finding) -> list:
-    from hazards.review.access import roles_on
-
     owner = finding.owner
     return [owner] if owner.is_active and roles_on(owner, finding.process_id) else []
 
 
 def _revision_notice(revision, kind) -> Notice | None:
-    from hazards.review.models import ReviewState
-
     waiting = {Kind.SUBMISSION_WAITING: ReviewState.LODGED,
                Kind.APPROVAL_WAITING: ReviewState.CHECKED}[kind]
     if revision.state != waiting:
@@ -82,8 +86,6 @@ def _revision_notice(revision, kind) -> Notice | None:
 
 
 def _finding_notice(finding, kind, period) -> Notice | None:
-    from hazards.review.models import FindingStatus
-
     if finding.status != FindingStatus.OPEN:
         return None
     process = finding.process
@@ -127,9 +129,6 @@ REVALIDATION_TODO = (
 
 
 def _revalidation_notice(schedule, period) -> Notice | None:
-    from hazards.oversight.dates import DEFAULT_SOURCE
-    from hazards.review.models import ReviewState
-
     if schedule.revision.state != ReviewState.ENDORSED:
         return None
     process = schedule.process
@@ -146,9 +145,6 @@ def _revalidation_notice(schedule, period) -> Notice | None:
 
 
 def _lapsed_notice(revision) -> Notice | None:
-    from hazards.oversight.models import ChangeRecord
-    from hazards.oversight.readable import describe
-
     process = revision.process
     records = list(ChangeRecord.objects.filter(approved_revision=revision).order_by("pk"))
     if not records:
@@ -174,8 +170,6 @@ def build(kind: str, object_key: str, period: str) -> Notice | None:
 
 
 def _build(kind: str, object_key: str, period: str) -> Notice | None:
-    from django.apps import apps
-
     label, _, pk = object_key.rpartition(":")
     model = apps.get_model(label)
     obj = model._base_manager.filter(pk=pk).first()
@@ -249,11 +243,6 @@ def send_emails(ids) -> int:
 def remind(*, on: dt.date) -> dict:
     """Reminders of findings and revalidations that fall due or are overdue on `on`;
     each (object, due date, stage) is told once per person however often this runs."""
-    from hazards.oversight.dates import OVERDUE, due_state
-    from hazards.oversight.models import ChangePolicy
-    from hazards.oversight.revalidation import active_schedules
-    from hazards.review.models import Finding, FindingStatus
-
     policies = {p.site_id: p for p in ChangePolicy.objects.all()}
     default = ChangePolicy()
     counts = {"finding_due": 0, "revalidation_due": 0}

@@ -8,6 +8,7 @@ import datetime as dt
 from django.db import transaction
 from django.utils import timezone
 
+from hazards.models import Site
 from hazards.oversight.dates import CURRENT, DEFAULT_SOURCE, DUE, OVERDUE, add_months, due_state
 from hazards.oversight.models import (
     ChangePolicy,
@@ -16,6 +17,7 @@ from hazards.oversight.models import (
     RevalidationSchedule,
 )
 from hazards.review.access import is_administrator, processes_of
+from hazards.review.models import Meaning, ReviewState, Signature
 
 DEFAULT_WINDOW_DAYS = 90
 
@@ -26,8 +28,6 @@ def today() -> dt.date:
 
 def schedule_for(*, revision, signed_at, using: str = "default") -> RevalidationSchedule:
     """The schedule of a revision approved at `signed_at`: approval date + site interval."""
-    from hazards.models import Site
-
     site = Site._base_manager.using(using).get(processes__pk=revision.process_id)
     approved_on = timezone.localdate(signed_at)
     months = site.revalidation_interval_months
@@ -43,8 +43,6 @@ def refresh_schedules(*, site_id: int | None = None, using: str = "default") -> 
     """Give every endorsed revision (of `site_id`'s processes, or all) its schedule and follow
     changes of the site's interval. Returns {"created": n, "updated": n}; a second run
     changes nothing."""
-    from hazards.review.models import Meaning, ReviewState, Signature
-
     approvals = (Signature.objects.using(using)
                  .filter(meaning=Meaning.APPROVED, revision__state=ReviewState.ENDORSED))
     if site_id is not None:
@@ -78,8 +76,6 @@ def refresh_schedules(*, site_id: int | None = None, using: str = "default") -> 
 def active_schedules(user=None):
     """Schedules of revisions that are endorsed now (a replaced approval is not revalidated;
     its process is in review again), limited to what `user` may see."""
-    from hazards.review.models import ReviewState
-
     qs = (RevalidationSchedule.objects.filter(revision__state=ReviewState.ENDORSED)
           .select_related("process", "process__site", "revision"))
     if user is not None and not is_administrator(user):

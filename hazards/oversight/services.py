@@ -8,7 +8,7 @@ import datetime as dt
 from django.utils import timezone
 
 from hazards.oversight import notify, revalidation
-from hazards.oversight.models import Notification
+from hazards.oversight.models import Kind, Notification, NotificationPreference
 
 RETRY_UNSENT_DAYS = 7
 
@@ -33,8 +33,6 @@ def refresh_and_remind(*, on: dt.date | None = None) -> dict:
 
 def preferences_of(user) -> list[dict]:
     """Every kind with this person's choice (both channels on unless turned off)."""
-    from hazards.oversight.models import Kind, NotificationPreference
-
     saved = {p.kind: p for p in NotificationPreference.objects.filter(user=user)}
     return [{"kind": kind.value, "label": kind.label,
              "email": saved[kind].email if kind in saved else True,
@@ -42,8 +40,6 @@ def preferences_of(user) -> list[dict]:
 
 
 def preference_set(*, user, kind: str, email: bool, inbox: bool):
-    from hazards.oversight.models import Kind, NotificationPreference
-
     if kind not in Kind.values:
         raise ValueError(f"unknown notification kind {kind!r}")
     pref, _ = NotificationPreference.objects.update_or_create(

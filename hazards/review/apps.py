@@ -1,4 +1,5 @@
 from django.apps import AppConfig
+from django.db.models.signals import post_migrate
 
 
 class ReviewConfig(AppConfig):
@@ -9,9 +10,8 @@ class ReviewConfig(AppConfig):
     verbose_name = "Review and sign-off"
 
     def ready(self) -> None:
-        from django.db.models.signals import post_migrate
-
-        from hazards.review import audit, hooks
+        # Models exist once the registry is ready (Django's place for it).
+        from hazards.review import audit, hooks  # noqa: PLC0415 — app registry
 
         post_migrate.connect(audit.install_chain_triggers_after_migrate, sender=self)
         hooks.connect()

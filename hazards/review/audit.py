@@ -16,7 +16,8 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from django.apps import apps
-from django.db import connection, transaction
+from django.db import connection, connections, transaction
+from pghistory.models import Event
 
 from hazards.review.anchors import check_heads, dossier_heads, read_head_file
 from hazards.review.chain_sql import (  # noqa: F401 - the chain's names live here too
@@ -37,12 +38,13 @@ from hazards.review.chain_verify import (
     unlinked_events,
     walk_chain,
 )
+from hazards.review.content import content_sha256
+from hazards.review.models import ChainLink, RiskAcceptance, Signature
+from hazards.review.signing import acceptance_seal_verifies, seal_verifies
 
 
 def event_models() -> list:
     """Every concrete pghistory event model (one table each)."""
-    from pghistory.models import Event
-
     return [
         m
         for m in apps.get_models()
@@ -64,8 +66,6 @@ def existing_event_tables(cursor) -> list[str]:
 
 def install_chain_triggers(using: str = "default") -> list[str]:
     """(Re)install the chain's triggers on every event table; returns the tables covered."""
-    from django.db import connections
-
     with connections[using].cursor() as cursor:
         return install_triggers(cursor, existing_event_tables(cursor))
 
@@ -77,8 +77,6 @@ def install_chain_triggers_after_migrate(sender, using="default", **kwargs) -> N
 def adopt_unlinked_events(using: str = "default") -> int:
     """Link the events that existed before the chain did (run once, by the migration, on
     the migrating connection: the owner's, which may not be the application's)."""
-    from django.db import connections
-
     count = 0
     with transaction.atomic(using=using), connections[using].cursor() as cursor:
         cursor.execute("SELECT pg_advisory_xact_lock(%s)", [CHAIN_LOCK_KEY])
@@ -119,8 +117,6 @@ def link_pending_now() -> None:
 
 def head_hash() -> str:
     """The hash of the newest chain link (hex); the genesis value when nothing is linked."""
-    from hazards.review.models import ChainLink
-
     return ChainLink.objects.order_by("-seq").values_list("hash", flat=True).first() or GENESIS
 
 
@@ -171,10 +167,6 @@ def verify_chain(
 
 
 def verify_signatures() -> list[Problem]:
-    from hazards.review.content import content_sha256
-    from hazards.review.models import RiskAcceptance, Signature
-    from hazards.review.signing import acceptance_seal_verifies, seal_verifies
-
     problems = []
     for sig in Signature.objects.select_related("revision", "signer").order_by("id"):
         rev = sig.revision

@@ -22,6 +22,8 @@ from django.db.models import OuterRef, Q, Subquery
 from django.utils.dateparse import parse_datetime
 
 from hazards import keyset
+from hazards import models as m
+from hazards.review import models as r
 from hazards.review.selectors import _event_fields, _with_context, event_model_for
 
 PAGE_SIZE = 50
@@ -42,9 +44,6 @@ class HistoryPage:
 
 def process_sources(process) -> list[tuple]:
     """(event model, condition) of every table whose events belong to the process."""
-    from hazards import models as m
-    from hazards.review import models as r
-
     def ids(model, **filters):
         return event_model_for(model).objects.filter(**filters).values("pgh_obj_id")
 

@@ -12,13 +12,16 @@ import logging
 from django.db import transaction
 from django.db.models.signals import post_delete, post_save
 
+from hazards import models as m
+from hazards.models import Process, ReactionStep, Solvent, Vessel
+from hazards.review.access import process_id_of
+from hazards.review.models import SIGNED_STATES, ProcessRevision
+from hazards.review.services.revisions import revisions_reconcile
+
 log = logging.getLogger(__name__)
 
 
 def _process_ids(instance) -> set[int]:
-    from hazards.models import ReactionStep, Solvent, Vessel
-    from hazards.review.access import process_id_of
-
     if isinstance(instance, Vessel | Solvent):
         field = "vessel" if isinstance(instance, Vessel) else "solvent"
         return set(ReactionStep._base_manager.filter(**{field: instance.pk})
@@ -31,10 +34,6 @@ def _process_ids(instance) -> set[int]:
 
 
 def _reconcile(process_ids: set[int]) -> None:
-    from hazards.models import Process
-    from hazards.review.models import SIGNED_STATES, ProcessRevision
-    from hazards.review.services.revisions import revisions_reconcile
-
     signed = ProcessRevision.objects.filter(
         process_id__in=process_ids, state__in=[s.value for s in SIGNED_STATES]
     ).values_list("process_id", flat=True).distinct()
@@ -49,8 +48,6 @@ def _changed(sender, instance, **kwargs) -> None:
 
 
 def connect() -> None:
-    from hazards import models as m
-
     for model in (m.Process, m.ReactionStep, m.CalorimetryRun, m.DecompositionTest,
                   m.DecompositionPeak, m.CalorimetrySeries, m.Vessel, m.Solvent):
         post_save.connect(_changed, sender=model, dispatch_uid=f"review-{model.__name__}-save")

@@ -3,10 +3,17 @@ difference between two revisions of a process."""
 
 from __future__ import annotations
 
+from datetime import timedelta
+
+from django.apps import apps
+from django.conf import settings
 from django.contrib.auth import get_user_model
 from pghistory.models import Context
 
+from hazards import models as m
+from hazards.review import models as r
 from hazards.review.audit import event_models
+from hazards.review.models import OPEN_STATES, ProcessRevision, ReviewState
 
 MISSING = object()
 
@@ -84,9 +91,6 @@ def _ids(rows) -> set:
 
 def process_history(process) -> list[dict]:
     """The audit events of a process and of everything under it, oldest first."""
-    from hazards import models as m
-    from hazards.review import models as r
-
     def rows_of(model, **filters):
         event_model = event_model_for(model)
         return _rows(event_model, **filters) if event_model else []
@@ -203,8 +207,6 @@ def approval_status(process) -> dict:
     """Which revision is in force, which one collects changes, and whether its indicators
     differ from the approved ones, with one sentence that says so. Read after reconciling
     (`services.revisions.current_revision`), so that an open draft holds the live content."""
-    from hazards.review.models import OPEN_STATES, ProcessRevision, ReviewState
-
     revisions = list(ProcessRevision.objects.filter(
         process_id=getattr(process, "pk", process),
         state__in=[ReviewState.ENDORSED, *OPEN_STATES]).order_by("number"))
@@ -249,10 +251,6 @@ CREDENTIALS_CHANGED = ("The signer's password was changed {hours} h before this 
 def credentials_changed_at(signatures) -> dict[int, object]:
     """For each signature, the latest change of its signer's password within
     `EXOLEDGER_CREDENTIAL_CHANGE_HOURS` before it (from the audit trail); absent if none."""
-    from datetime import timedelta
-
-    from django.apps import apps
-    from django.conf import settings
 
     window = timedelta(hours=settings.CREDENTIAL_CHANGE_HOURS)
     events = apps.get_model("hazards", "UserPasswordEvent").objects

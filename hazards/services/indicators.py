@@ -21,6 +21,7 @@ from django.db import connections, transaction
 from django.dispatch import Signal
 
 import calcs
+from calcs import scenario
 from calcs.scenario import MeasureInputs
 from hazards.models import IndicatorSnapshot, ReactionStep
 
@@ -154,8 +155,6 @@ def _chosen(row: dict | None) -> str | None:
 
 def _kinetics(stored: dict | None):
     """The fitted model a test's curves gave (`DecompositionTest.kinetics`), or None."""
-    from calcs import scenario
-
     if not stored or stored.get("status") != "fitted":
         return None
     cov = stored.get("covariance")
@@ -185,8 +184,6 @@ def case_from_row(step_id: int, step: dict, vessel: dict | None, solvent: dict |
                   run: dict | None, test: dict | None, current: dict | None,
                   measures: list[dict] | None = None) -> StepCase:
     """Assemble one step's cooling-failure scenario from the rows `load_cases` read."""
-    from calcs import scenario
-
     vessel, run, test = vessel or {}, run or {}, test or {}
     antoine = None
     if solvent is not None and solvent["vapour_pressure_source"] == "antoine":
@@ -281,8 +278,6 @@ PROVENANCE_KEYS = ("warnings", "methods", "parameters", "references")
 
 def assess(case: StepCase) -> dict:
     """Compute the indicator set of one case; returns the snapshot's JSON parts."""
-    from calcs import scenario
-
     data = scenario.assess_step(case.scenario_inputs).to_dict()
     provenance = {key: data.pop(key) for key in PROVENANCE_KEYS}
     return {"values": data, **provenance}

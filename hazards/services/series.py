@@ -34,6 +34,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from calcs.units import Q_, ureg
 from hazards.quantities import normalise_unit, size_text
 from hazards.services.table import in_file_unit, open_table, read_rows
 
@@ -133,8 +134,6 @@ def _linear_to_si(column: str, unit_text: str, target: str | None = None,
     """(a, b) with si = a·x + b for the unit as written; raises ValueError with a rule.
 
     `target` and `example` default to the calorimeter columns' (`COLUMNS`, `EXAMPLE_UNIT`)."""
-    from calcs.units import Q_, ureg
-
     target = target or COLUMNS[column]
     example = example or EXAMPLE_UNIT[column]
     if target == "dimensionless" and unit_text.strip().lower() in DIMENSIONLESS:

@@ -7,6 +7,14 @@ indicator scenario calls it.
 
 from __future__ import annotations
 
+from django.core.exceptions import ValidationError
+from django.db import transaction
+
+import calcs
+from calcs.accumulation import analyse_accumulation
+from calcs.errors import CalcInputError
+from hazards.models import CalorimetryRun, CalorimetrySeries
+from hazards.services.records import lock_version, record_update
 from hazards.services.series import ParsedSeries, SeriesProblem, parse_series
 
 SERIES_EXISTS = "The run already has a calorimeter series ({name}, SHA-256 {sha})."
@@ -30,8 +38,6 @@ def analyse_series(series: ParsedSeries | dict, *, step, initial_mass_kg: float,
                    feed_mass_kg: float):
     """`calcs.accumulation.analyse_accumulation` of a series with the step's c_p and T_p,
     exactly as the indicator scenario calls it."""
-    from calcs.accumulation import analyse_accumulation
-
     data = series.data if isinstance(series, ParsedSeries) else series
     return analyse_accumulation(
         data["time_s"], data["heat_release_rate_w"], data["dosed_fraction"],
@@ -42,8 +48,6 @@ def analyse_series(series: ParsedSeries | dict, *, step, initial_mass_kg: float,
 
 def derived_summary(analysis) -> dict:
     """The SI summary stored in `CalorimetrySeries.derived`."""
-    import calcs
-
     return {
         "method": "calcs.accumulation.analyse_accumulation",
         "calcs_version": calcs.__version__,
@@ -70,12 +74,6 @@ def series_attach(*, run, file_name: str, raw: bytes, initial_mass_kg: float,
     `max_accumulation`; the indicators of the step are recomputed before it commits.
     Returns (series, analysis). Raises SeriesRejected, SeriesExists or StaleRecord.
     """
-    from django.core.exceptions import ValidationError
-    from django.db import transaction
-
-    from calcs.errors import CalcInputError
-    from hazards.models import CalorimetryRun, CalorimetrySeries
-    from hazards.services.records import lock_version, record_update
 
     parsed = parse_series(raw, feed_mass_kg=feed_mass_kg)
     if not parsed.ok:

@@ -15,6 +15,9 @@ from django.http import Http404, HttpResponse
 from django.shortcuts import get_object_or_404, redirect, render
 from django.views.decorators.http import require_POST
 
+from hazards.dossier.models import Dossier, DossierStatus
+from hazards.dossier.seal import verify_pdf
+from hazards.dossier.services import dossier_request as request_service
 from hazards.fieldkinds import LABELS, kinds_for
 from hazards.models import Process, ReactionStep
 from hazards.review import history
@@ -25,6 +28,7 @@ from hazards.review.access import (
     processes_of,
     visible,
 )
+from hazards.review.audit import head_hash, verify_all
 from hazards.review.models import ProcessRevision, Role
 from hazards.web import display
 from hazards.web.common import visible_or_404
@@ -178,7 +182,6 @@ def verify_page(request):
     """The integrity check of the review app (`manage.py verify`), and a dossier PDF check."""
     if not is_auditor(request.user):
         raise PermissionDenied(ONLY_AUDITORS)
-    from hazards.review.audit import head_hash, verify_all
 
     context = {"form": VerifyPdfForm(), "checked": None, "problems": None}
     if request.method == "POST" and request.POST.get("action") == "verify":
@@ -188,8 +191,6 @@ def verify_page(request):
         form = VerifyPdfForm(request.POST, request.FILES)
         context["form"] = form
         if form.is_valid():
-            from hazards.dossier.seal import verify_pdf
-
             # A dossier of a process this person cannot see: answered as a foreign PDF.
             context["checked"] = verify_pdf(form.cleaned_data["file"].read(),
                                             dossiers=_dossiers_of(request.user))
@@ -197,16 +198,12 @@ def verify_page(request):
 
 
 def _dossiers_of(user):
-    from hazards.dossier.models import Dossier
-
     return Dossier.objects.filter(process__in=visible(user, Process.objects.all()))
 
 
 @login_required
 @require_POST
 def dossier_request(request, pk):
-    from hazards.dossier.services import dossier_request as request_service
-
     process = visible_or_404(request.user, Process.objects.all(), pk=pk)
     dossier, created = request_service(process=process, requested_by=request.user,
                                        reason=request.POST.get("reason", "")[:200])
@@ -224,8 +221,6 @@ def dossier_status(request, pk):
 
 @login_required
 def dossier_pdf(request, pk):
-    from hazards.dossier.models import DossierStatus
-
     dossier = get_object_or_404(_dossiers_of(request.user), pk=pk)
     if dossier.status != DossierStatus.DONE:
         messages.error(request, f"Dossier version {dossier.version} is {dossier.status}.")

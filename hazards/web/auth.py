@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import time
+from urllib.parse import urlencode
 
 from django import forms
 from django.conf import settings
@@ -93,7 +94,5 @@ def signout(request):
 
 def admin_login(request):
     """The admin's own login form is not used: one place to sign in, with the lockout."""
-    from urllib.parse import urlencode
-
     target = request.GET.get("next", "/admin/")
     return redirect(f"{settings.LOGIN_URL}?{urlencode({'next': target})}")

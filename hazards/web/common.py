@@ -8,7 +8,7 @@ from django.core.exceptions import PermissionDenied
 from django.shortcuts import get_object_or_404
 
 from hazards import trail
-from hazards.models import Process
+from hazards.models import Process, ReactionStep
 from hazards.review import access
 
 NOT_YOURS = "You hold no role on this process that allows this change."
@@ -56,8 +56,6 @@ def needs_reason(process_id) -> bool:
 
 def reference_needs_reason(obj) -> bool:
     """A vessel or solvent used by a step whose process is under review."""
-    from hazards.models import ReactionStep
-
     if obj is None or obj.pk is None:
         return False
     field = obj._meta.model_name

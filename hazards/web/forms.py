@@ -14,7 +14,8 @@ from hazards.models import (
     Solvent,
     Vessel,
 )
-from hazards.web.quantity_fields import quantity_formfield_callback
+from hazards.web.display import human_unit
+from hazards.web.quantity_fields import QuantityFormField, quantity_formfield_callback
 
 REASON_HELP = ("Someone has signed these data: say why they change. The reason goes into the "
                "audit trail with your name and the time.")
@@ -40,9 +41,6 @@ def _readable(prepare):
 
 def humanise(form) -> None:
     """Labels people read, and unit help with examples, for every field of a form."""
-    from hazards.web.display import human_unit
-    from hazards.web.quantity_fields import QuantityFormField
-
     for name, field in form.fields.items():
         if name in LABELS:
             field.label = LABELS[name]

@@ -10,6 +10,14 @@ from pathlib import Path
 
 from django.core.cache import caches
 
+from hazards.dossier.charts import step_charts
+from hazards.dossier.decomposition_charts import (
+    arc_chart,
+    e_alpha_chart,
+    run_points,
+    scan_data,
+    scans_chart,
+)
 from hazards.fieldkinds import LABELS
 from hazards.models import (
     CalorimetryRun,
@@ -227,8 +235,6 @@ def chart_images(snapshot, series_data: dict | None, *, series_key: str = "") ->
 
 
 def _draw(snapshot, series_data: dict | None) -> list[dict]:
-    from hazards.dossier.charts import step_charts
-
     titles = {"cooling_failure": "Cooling-failure scenario: Tp, MTSR, MTT and TD24",
               "accumulation": "Accumulation and MTSR over the dosing",
               "tmr": "TMRad against temperature",
@@ -252,14 +258,6 @@ def kinetics_parameters(test) -> list[dict]:
 
 def decomposition_chart_images(test) -> list[dict]:
     """The evidence of a test's curves (scans with baselines and fit, E(α)) as images."""
-    from hazards.dossier.decomposition_charts import (
-        arc_chart,
-        e_alpha_chart,
-        run_points,
-        scan_data,
-        scans_chart,
-    )
-
     if test is None or not test.curves.exists():
         return []
     # a test's version changes with every curve and every derived value: the charts' key

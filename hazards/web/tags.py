@@ -9,6 +9,7 @@ from django.utils.html import format_html
 from django.utils.safestring import mark_safe
 
 from hazards.web import display
+from hazards.web.audit import is_auditor
 
 register = template.Library()
 
@@ -60,8 +61,6 @@ def query(context, **changes):
 
 @register.filter
 def auditor(user):
-    from hazards.web.audit import is_auditor
-
     return bool(getattr(user, "is_authenticated", False)) and is_auditor(user)
 
 

@@ -8,6 +8,7 @@ from django.db.models import Prefetch
 from django.http import JsonResponse
 from django.shortcuts import render
 
+from hazards.dossier.models import Dossier
 from hazards.models import (
     CalorimetryRun,
     CalorimetrySeries,
@@ -56,7 +57,6 @@ def process_detail(request, pk):
         values = snap.values if snap else {}
         rows.append({"step": step, "snap": snap, "values": values,
                      "warnings": len(snap.warnings) if snap else 0})
-    from hazards.dossier.models import Dossier
 
     return render(request, "hazards/process_detail.html", {
         "process": process, "rows": rows, "revision": revision,

@@ -9,6 +9,7 @@ a run that already has a series is left alone.
 
 from __future__ import annotations
 
+import datetime as dt
 import hashlib
 import io
 
@@ -16,6 +17,10 @@ import numpy as np
 
 from calcs import semibatch
 from calcs.constants import R
+from hazards.models import CalorimetryRun, CalorimetrySeries, ReactionStep
+from hazards.services.records import record_create
+from hazards.services.series import parse_series
+from hazards.services.series_store import analyse_series, derived_summary
 
 STEP_NAME = "Esterification with acid dosing"
 INSTRUMENT = "RC-lab heat-flow calorimeter 2"
@@ -45,11 +50,6 @@ def generated_series(temperature_c: float, seed: int) -> tuple[bytes, dict]:
 
 
 def _attach(run, temperature_c: float, seed: int) -> None:
-    from hazards.models import CalorimetrySeries
-    from hazards.services.records import record_create
-    from hazards.services.series import parse_series
-    from hazards.services.series_store import analyse_series, derived_summary
-
     if CalorimetrySeries.objects.filter(run=run).exists():
         return
     raw, _ = generated_series(temperature_c, seed)
@@ -64,10 +64,6 @@ def _attach(run, temperature_c: float, seed: int) -> None:
 
 def load_whatif_demo() -> None:
     """Add the generated series (and the second-temperature run) to the demo step."""
-    import datetime as dt
-
-    from hazards.models import CalorimetryRun, ReactionStep
-    from hazards.services.records import record_create
 
     step = ReactionStep.objects.filter(name=STEP_NAME, process__site__code="varnholt").first()
     if step is None:

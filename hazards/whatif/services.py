@@ -38,6 +38,10 @@ import numpy as np
 from calcs import operating_point, scenario, semibatch
 from calcs.errors import CalcInputError
 from hazards import trail
+from hazards.models import CalorimetrySeries
+from hazards.review.access import can_edit_process
+from hazards.services.indicators import load_cases
+from hazards.services.records import record_update
 
 NOT_SEMI_BATCH = "The step is a batch step: it has no dosing time to explore."
 NO_MODEL_DATA = ("The step has neither a calorimetry series that supports the model nor an "
@@ -131,8 +135,6 @@ class Window:
 
 def series_rows(step_id: int) -> list[dict]:
     """Every calorimetry series of the step (a read): run id, basis flag, SI data, masses."""
-    from hazards.models import CalorimetrySeries
-
     return list(CalorimetrySeries.objects.filter(run__step_id=step_id).order_by(
         "-run__is_basis", "-run__run_date", "-run_id").values(
         "run_id", "run__is_basis", "data", "initial_mass_kg", "feed_mass_kg"))
@@ -140,8 +142,6 @@ def series_rows(step_id: int) -> list[dict]:
 
 def load(step_id: int):
     """(case, series rows) of one step: the scenario inputs as the indicators read them."""
-    from hazards.services.indicators import load_cases
-
     cases = load_cases([step_id])
     if not cases:
         raise WhatIfRefused(None, "No such step.")
@@ -364,9 +364,6 @@ def apply_point(*, step, user, dosing_time_s: float, process_temperature_k: floa
     transaction and marks an approved step `needs_review`; the review layer replaces the
     signed revisions whose content changed and opens the next draft. Nothing is signed here.
     """
-
-    from hazards.review.access import can_edit_process
-    from hazards.services.records import record_update
 
     if not can_edit_process(user, step.process_id):
         raise PermissionError("You have no role on this process that allows this change.")

@@ -18,6 +18,7 @@ from django.db import connections
 
 from hazards.db import data_dir
 from hazards.demo import ROLES, load_demo
+from hazards.oversight.tasks import schedule_next
 
 
 class Command(BaseCommand):
@@ -51,7 +52,6 @@ class Command(BaseCommand):
             return
         # The daily refresh of revalidation dates and reminders, run by the worker below;
         # queued once (a queued copy is never duplicated).
-        from hazards.oversight.tasks import schedule_next
 
         schedule_next()
         gunicorn = shutil.which("gunicorn") or os.path.join(os.path.dirname(sys.executable),

@@ -39,7 +39,8 @@ DROP FUNCTION IF EXISTS review_payload_digest(text, json);
 
 
 def link_existing(apps, schema_editor):
-    from hazards.review import audit
+    # At run time, not when the migration is loaded: migrations must load without the app.
+    from hazards.review import audit  # noqa: PLC0415 — migration
 
     with schema_editor.connection.cursor() as cursor:
         for table in audit.existing_event_tables(cursor):

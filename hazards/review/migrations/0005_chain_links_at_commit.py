@@ -17,7 +17,8 @@ PENDING_STORAGE_SQL = (
 
 
 def link_at_commit(apps, schema_editor):
-    from hazards.review import audit
+    # At run time, not when the migration is loaded: migrations must load without the app.
+    from hazards.review import audit  # noqa: PLC0415 — migration
 
     with schema_editor.connection.cursor() as cursor:
         cursor.execute("DROP FUNCTION IF EXISTS review_chain_append() CASCADE")

@@ -7,6 +7,9 @@ import json
 
 from django.core.management.base import BaseCommand, CommandError
 
+from hazards.oversight.services import refresh_and_remind
+from hazards.oversight.tasks import schedule_next
+
 
 class Command(BaseCommand):
     help = ("Refresh the revalidation due dates of endorsed revisions and send the reminders "
@@ -19,9 +22,6 @@ class Command(BaseCommand):
                             help="queue the daily refresh task (db_worker runs it)")
 
     def handle(self, *args, date=None, schedule=False, **options):
-        from hazards.oversight.services import refresh_and_remind
-        from hazards.oversight.tasks import schedule_next
-
         try:
             on = dt.date.fromisoformat(date) if date else None
         except ValueError:
