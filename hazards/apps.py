@@ -16,5 +16,4 @@ class HazardsConfig(AppConfig):
         # After every migrate, as the owner: the application's role and its grants.
         post_migrate.connect(dbroles.ensure_app_role_after_migrate, sender=self)
         # Models announce written inputs; the indicator recompute subscribes (same transaction).
-        indicators.inputs_written.connect(indicators.on_inputs_written,
-                                          dispatch_uid="indicators-recompute")
+        indicators.connect()

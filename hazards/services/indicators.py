@@ -24,6 +24,7 @@ import calcs
 from calcs import scenario
 from calcs.scenario import MeasureInputs
 from hazards.models import IndicatorSnapshot, ReactionStep
+from hazards.models.base import inputs_written
 
 # The libraries whose releases can move an indicator: a changed number can be traced to a
 # changed library through the versions each snapshot records.
@@ -392,6 +393,11 @@ def flush_pending(*, using: str = "default") -> dict:
 def on_inputs_written(sender, *, using: str = "default", **kwargs) -> None:
     """Subscriber of `hazards.models.base.inputs_written`: recompute in the same transaction."""
     flush_pending(using=using)
+
+
+def connect() -> None:
+    """Subscribe the recompute to the models' announcement (HazardsConfig.ready)."""
+    inputs_written.connect(on_inputs_written, dispatch_uid="indicators-recompute")
 
 
 def current_snapshot(step: ReactionStep) -> IndicatorSnapshot | None:
