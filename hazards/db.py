@@ -26,6 +26,38 @@ def data_dir() -> Path:
     return Path(raw).expanduser().resolve() if raw else BASE_DIR / "var"
 
 
+FOREIGN_SERVER = (
+    "The embedded database folder {folder} holds the postmaster.pid of a PostgreSQL server "
+    "that is running from {other}: this folder was copied from another working tree, and "
+    "using it would share that tree's database. Set EXOLEDGER_DATA_DIR to a folder of this "
+    "tree's own (or delete {folder} to start afresh under var/), or stop the other server."
+)
+
+
+def _alive(pid: int) -> bool:
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:  # someone else's process: alive
+        return True
+    return True
+
+
+def refuse_foreign_server(folder: Path) -> None:
+    """Refuse a data folder whose postmaster.pid names a live server running from another
+    folder. pgserver joins whatever server a postmaster.pid names, so a copied tree (its
+    var/ included) would silently use the original tree's server and data; PostgreSQL writes
+    the server's data directory on the pid file's second line."""
+    try:
+        lines = (folder / "postmaster.pid").read_text().splitlines()
+        pid, other = int(lines[0]), Path(lines[1])
+    except (OSError, ValueError, IndexError):
+        return  # no server, or none pgserver would join
+    if pid > 0 and _alive(pid) and other.resolve() != folder.resolve():
+        raise ImproperlyConfigured(FOREIGN_SERVER.format(folder=folder, other=other))
+
+
 def _embedded_url() -> str:
     """Start (or join) the embedded server and return a URL to the project's database."""
     try:
@@ -38,6 +70,7 @@ def _embedded_url() -> str:
             "DATABASE_URL is not set and the embedded PostgreSQL (pgserver) is not installed."
         ) from exc
     folder = data_dir() / "pgdata"
+    refuse_foreign_server(folder)
     folder.parent.mkdir(parents=True, exist_ok=True)
     # cleanup_mode=None: the server outlives this process, so manage.py, gunicorn, the
     # worker and the tests share one server instead of each starting their own.
