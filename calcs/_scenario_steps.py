@@ -2,11 +2,10 @@
 
 from __future__ import annotations
 
-import math
-
 import numpy as np
 
 from calcs import criticality as crit
+from calcs import td24_methods as tm
 from calcs._scenario_barriers import barrier_checks
 from calcs._scenario_context import _Ctx
 from calcs._scenario_edges import _extrapolation, _mtsr_from_entered_accumulation
@@ -24,10 +23,9 @@ from calcs.errors import (
     require_non_negative,
     require_positive,
 )
-from calcs.kinetics import kissinger
-from calcs.phi import corrected_onset_temperature
 from calcs.plausibility import unit_slip_warnings
 from calcs.scenario_types import Assessment, AssessmentSettings, StepInputs
+from calcs.td24_methods import td24_methods, td24_model
 from calcs.tmr import td24, td_refusal, tmr_zero_order_at
 
 NO_DECOMPOSITION = "no decomposition data: TD24 unknown, no class can be assigned"
@@ -186,61 +184,65 @@ def _mtsr(c: _Ctx) -> None:
 
 
 def _td24(c: _Ctx) -> None:
+    """TD24 by the first method of the table (:mod:`calcs.td24_methods`) after a fitted
+    model; the warnings, parameters and references of the method chosen."""
     s, cfg = c.s, c.cfg
     cp = s.specific_heat_capacity_j_per_kg_k
-    ea, tref, qref = s.activation_energy_j_per_mol, s.reference_temperature_k, \
-        s.heat_release_rate_at_reference_w_per_kg
+    ea, tref = s.activation_energy_j_per_mol, s.reference_temperature_k
     peaks = s.peak_temperatures or ()
     if kinetic_td24(c):
         return
-    if ea is not None and tref is not None and qref is not None:
-        c.q_model, method = (ea, tref, qref), "td24.kinetic"
+    inputs = {
+        "activation_energy_j_per_mol": ea, "reference_temperature_k": tref,
+        "heat_release_rate_at_reference_w_per_kg": s.heat_release_rate_at_reference_w_per_kg,
+        "peak_temperatures": peaks, "decomposition_energy_j_per_kg":
+            s.decomposition_energy_j_per_kg,
+        "onset_temperature_k": s.onset_temperature_k, "phi_factor": s.phi_factor,
+    }
+    methods = td24_methods(onset_adiabatic=s.decomposition_method == "adiabatic", **inputs)
+    if not methods:
+        c.warn(NO_DECOMPOSITION)
+        return
+    method = methods[0]
+    m = td24_model(
+        method, specific_heat_capacity_j_per_kg_k=cp, **inputs,
+        screening_activation_energy_j_per_mol=cfg.screening_activation_energy_j_per_mol,
+        screening_heat_release_rate_w_per_kg=cfg.screening_heat_release_rate_w_per_kg,
+        arc_detection_rate_k_per_s=cfg.arc_detection_rate_k_per_s)
+    c.q_model = (m.activation_energy_j_per_mol, m.reference_temperature_k,
+                 m.heat_release_rate_at_reference_w_per_kg)
+    if method == tm.KINETIC:
         c.ref("townsend_tou1980")
-    elif len(peaks) >= 3 and s.decomposition_energy_j_per_kg:
-        fit = kissinger([p[0] for p in peaks], [p[1] for p in peaks])
-        t_ref = min(p[1] for p in peaks)
-        q = s.decomposition_energy_j_per_kg * fit.pre_exponential_per_s * math.exp(
-            -fit.activation_energy_j_per_mol / (R * t_ref))
-        c.q_model, method = (fit.activation_energy_j_per_mol, t_ref, q), "td24.kinetic_kissinger"
-        c.parameters["kissinger_activation_energy_j_per_mol"] = fit.activation_energy_j_per_mol
-        c.parameters["kissinger_pre_exponential_per_s"] = fit.pre_exponential_per_s
-        for w in fit.warnings:
+    elif method == tm.KINETIC_KISSINGER:
+        c.parameters["kissinger_activation_energy_j_per_mol"] = m.fit.activation_energy_j_per_mol
+        c.parameters["kissinger_pre_exponential_per_s"] = m.fit.pre_exponential_per_s
+        for w in m.fit.warnings:
             c.warn(f"Kissinger fit: {w}")
         c.ref("kissinger1957", "astm_e2890", "townsend_tou1980")
-    elif s.onset_temperature_k is not None and s.decomposition_method == "adiabatic":
-        e = ea if ea is not None else cfg.screening_activation_energy_j_per_mol
+    elif method in (tm.ADIABATIC_PHI_CORRECTED, tm.ADIABATIC_UNCORRECTED):
+        e = m.activation_energy_j_per_mol
         if ea is None:
             c.warn(f"adiabatic onset without E_a: {e / 1000:g} kJ/mol assumed for the "
                    "φ correction and the extrapolation")
             c.parameters["assumed_activation_energy_j_per_mol"] = e
-        phi = s.phi_factor
-        if phi is None:
+        if method == tm.ADIABATIC_UNCORRECTED:
             c.warn("φ not given: adiabatic onset not φ-corrected")
-            method, t_on = "td24.adiabatic_uncorrected", s.onset_temperature_k
         else:
-            method = "td24.adiabatic_phi_corrected"
-            t_on = corrected_onset_temperature(s.onset_temperature_k, e, phi)
-            c.parameters["corrected_onset_k"] = t_on
+            c.parameters["corrected_onset_k"] = m.corrected_onset_k
             c.ref("fisher_goetz1991", "astm_e1981")
         if cp is not None:
-            # at the corrected onset the adiabatic self-heat rate equals the detection threshold
-            q = cp * cfg.arc_detection_rate_k_per_s
-            c.q_model = (e, t_on, q)
             c.parameters["arc_detection_rate_k_per_s"] = cfg.arc_detection_rate_k_per_s
+        else:
+            c.q_model = None
         c.ref("townsend_tou1980")
-    elif s.onset_temperature_k is not None:
-        e = ea if ea is not None else cfg.screening_activation_energy_j_per_mol
-        q = cfg.screening_heat_release_rate_w_per_kg
-        c.q_model, method = (e, s.onset_temperature_k, q), "td24.dsc_onset_screening"
+    else:  # tm.DSC_ONSET_SCREENING
+        e, q = m.activation_energy_j_per_mol, m.heat_release_rate_at_reference_w_per_kg
         c.parameters.update({"screening_activation_energy_j_per_mol": e,
                              "screening_heat_release_rate_w_per_kg": q,
                              "td24_label": "screening estimate"})
         c.warn(f"TD24 is a screening estimate from a single DSC onset (assumed Ea {e / 1000:g} "
                f"kJ/mol, q {q:g} W/kg at onset)")
         c.ref("keller1997", "townsend_tou1980")
-    else:
-        c.warn(NO_DECOMPOSITION)
-        return
     c.methods["td24"] = method
     c.lowest_measured_k = {"td24.kinetic": tref,
                            "td24.kinetic_kissinger": min((p[1] for p in peaks), default=None)
