@@ -5,9 +5,11 @@ Private; the context object ``c`` is :class:`calcs._scenario_context._Ctx`.
 
 from __future__ import annotations
 
+from calcs import mtt_methods as mm
 from calcs._scenario_context import _Ctx
 from calcs.cooling import cooling_capacity
-from calcs.pressure import closed_vessel_mtt, closed_vessel_pressure
+from calcs.mtt_methods import mtt, mtt_methods
+from calcs.pressure import closed_vessel_pressure
 from calcs.vapour import (
     antoine_boiling_point,
     antoine_from_chemicals,
@@ -40,43 +42,51 @@ def _pressure(c: _Ctx, name: str) -> float:
 
 
 def _mtt(c: _Ctx) -> None:
+    """MTT by the first method of the table (:mod:`calcs.mtt_methods`); why it is unknown when
+    the table has none."""
     s = c.s
     src = "antoine" if s.solvent_antoine is not None else "chemicals"
-    if s.mtt_override_k is not None:
-        c.out["mtt_k"], c.methods["mtt"] = s.mtt_override_k, "mtt.override"
+    relief, design = s.vessel_relief_set_pressure_pa, s.vessel_design_pressure_pa
+    methods = mtt_methods(system=s.system, override_k=s.mtt_override_k,
+                          vapour_data=c.antoine is not None, non_volatile=s.non_volatile_declared,
+                          relief_set_pressure_pa=relief, design_pressure_pa=design)
+    method = methods[0] if methods else None
+    if method == mm.OVERRIDE:
+        c.out["mtt_k"], c.methods["mtt"] = s.mtt_override_k, method
         return
     if s.system == "open":
-        if c.antoine is None:
+        if method is None:
             c.warn("no solvent vapour-pressure data: MTT (boiling point) unknown")
             return
         p_op = _pressure(c, "operating_pressure_pa")
-        t = antoine_boiling_point(p_op, c.antoine)
-        c.out["mtt_k"], c.methods["mtt"] = t, f"mtt.boiling_point.{src}"
+        t = mtt(method=method, antoine=c.antoine, operating_pressure_pa=p_op)
+        c.out["mtt_k"], c.methods["mtt"] = t, f"{method}.{src}"
         c.warn(extrapolation_warning(t, c.antoine))
         if p_op < c.cfg.ambient_pressure_pa:
             _vacuum(c, p_op, t)
         return
-    p_set, kind = s.vessel_relief_set_pressure_pa, "relief"
-    if p_set is None and s.vessel_design_pressure_pa is not None:
-        p_set, kind = s.vessel_design_pressure_pa, "design"
+    if relief is None and design is not None:
         c.warn("no relief set pressure: the design pressure is used as the closed-vessel limit")
-    if p_set is None:
+    if relief is None and design is None:
         c.warn("no relief set or design pressure: MTT of the closed vessel unknown")
         return
-    if c.antoine is None and not s.non_volatile_declared:
+    if method is None:
         c.warn(NO_VAPOUR_CLOSED)
         return
     model = _closed_model(c)
     if model is None:
         return
     pvap, pad, n_gas = model
-    t = closed_vessel_mtt(p_set, pvap, pad, s.process_temperature_k, n_gas, s.vessel_headspace_m3)
+    t = mtt(method=method, relief_set_pressure_pa=relief, design_pressure_pa=design,
+            vapour_pressure=pvap, pad_pressure_pa=pad,
+            process_temperature_k=s.process_temperature_k, gas_amount_mol=n_gas,
+            headspace_m3=s.vessel_headspace_m3)
     if t is None:
         c.warn("closed vessel stays below its set pressure up to 1500 K: MTT unknown")
         return
     if t == s.process_temperature_k:
         c.warn("closed vessel at or above its set pressure already at the process temperature")
-    c.out["mtt_k"], c.methods["mtt"] = t, f"mtt.closed_vessel_{kind}"
+    c.out["mtt_k"], c.methods["mtt"] = t, method
     if c.antoine is not None:
         c.warn(extrapolation_warning(t, c.antoine))
     c.ref("stoessel2008")
