@@ -10,7 +10,7 @@ from pathlib import Path
 
 from django.core.cache import caches
 
-from hazards.dossier.charts import step_charts
+from hazards.dossier import charts
 from hazards.dossier.decomposition_charts import (
     arc_chart,
     e_alpha_chart,
@@ -240,7 +240,7 @@ def _draw(snapshot, series_data: dict | None) -> list[dict]:
               "tmr": "TMRad against temperature",
               "heat_release": "Heat release against cooling capacity"}
     out = []
-    for name, svg in step_charts(snapshot, series_data).items():
+    for name, svg in charts.step_charts(snapshot, series_data).items():
         encoded = base64.b64encode(svg.encode("utf-8")).decode("ascii")
         out.append({"name": name, "title": titles.get(name, name.replace("_", " ")),
                     "src": f"data:image/svg+xml;base64,{encoded}"})
@@ -267,7 +267,7 @@ def decomposition_chart_images(test) -> list[dict]:
         return found
     kinetics = test.kinetics or {}
     out = []
-    charts = (
+    figures = (
         (("dsc_scans", "DSC scans with baselines and the fitted model",
           scans_chart(scan_data(test), kinetics)),
          ("e_alpha", "Activation energy against conversion (Friedman, OFW)",
@@ -276,7 +276,7 @@ def decomposition_chart_images(test) -> list[dict]:
         else (("adiabatic_runs", "Adiabatic runs: self-heat rate, measured and φ-corrected",
                arc_chart(run_points(test.curves.order_by("id"), 400))),)
     )
-    for name, title, svg in charts:
+    for name, title, svg in figures:
         encoded = base64.b64encode(svg.encode("utf-8")).decode("ascii")
         out.append({"name": name, "title": title, "src": f"data:image/svg+xml;base64,{encoded}"})
     caches["charts"].set(key, out)

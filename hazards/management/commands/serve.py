@@ -18,7 +18,7 @@ from django.db import connections
 
 from hazards.db import data_dir
 from hazards.demo import ROLES, load_demo
-from hazards.oversight.tasks import schedule_next
+from hazards.oversight import tasks
 
 
 class Command(BaseCommand):
@@ -53,7 +53,7 @@ class Command(BaseCommand):
         # The daily refresh of revalidation dates and reminders, run by the worker below;
         # queued once (a queued copy is never duplicated).
 
-        schedule_next()
+        tasks.schedule_next()
         gunicorn = shutil.which("gunicorn") or os.path.join(os.path.dirname(sys.executable),
                                                            "gunicorn")
         argv = [gunicorn, "hazards.wsgi:application", "--bind", bind, "--workers", str(workers),
