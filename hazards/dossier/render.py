@@ -18,6 +18,7 @@ from hazards.dossier import decomposition_charts as dc
 from hazards.dossier.pdf import PdfJob, write_pdf
 from hazards.dossier.sandbox import EXIT_MEMORY
 from hazards.dossier.view import dossier_view
+from hazards.quantities import STANDARD_UNITS, display_units
 from hazards.services.indicators import canonical_json
 
 DEFERENCE = ("This dossier supports and does not replace a qualified assessment; local codes, "
@@ -79,7 +80,15 @@ def chart_key(step: dict, name: str) -> str:
 
 
 def build_pages(content: dict, meta: DossierMeta) -> tuple[PdfJob, list[dict]]:
-    """The job without its charts (their names are known), and the view's steps to draw."""
+    """The job without its charts (their names are known), and the view's steps to draw.
+
+    A signed document reads the same for everyone: the site's standard units, whoever's
+    request renders it (a person's display units are for the pages only)."""
+    with display_units(STANDARD_UNITS):
+        return _build_pages(content, meta)
+
+
+def _build_pages(content: dict, meta: DossierMeta) -> tuple[PdfJob, list[dict]]:
     view = dossier_view(content, meta)
     for step in view["steps"]:
         names = ch.chart_names(step["snapshot"]) + dc.chart_names(step["decomposition"])

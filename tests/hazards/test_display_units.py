@@ -90,3 +90,12 @@ def test_a_notice_is_written_in_the_site_standard_whoever_queued_it(monkeypatch)
     monkeypatch.setattr(notify, "_build", lambda *a: quantity_text(373.15, "temperature"))
     with display_units(FAHRENHEIT):
         assert notify.build("approval_lapsed", "review.processrevision:1", "") == "100 °C"
+
+
+def test_a_dossier_is_built_in_the_site_standard_whoever_renders_it(monkeypatch):
+    from hazards.dossier import render
+
+    monkeypatch.setattr(render, "_build_pages",
+                        lambda content, meta: quantity_text(373.15, "temperature"))
+    with display_units(FAHRENHEIT):
+        assert render.build_pages({}, None) == "100 °C"
