@@ -26,6 +26,20 @@ def shoot_and_check(page, name: str) -> None:
             "document.documentElement.scrollWidth - document.documentElement.clientWidth"
         )
         assert overflow <= 1, f"{name} at {width} px is {overflow} px too wide"
+        if width == 1280:
+            # At desktop width every table is a table: each cell of the first row starts
+            # where its column's heading starts (a grid or card style leaking onto a table
+            # moved the row beside its headings).
+            misaligned = page.evaluate("""() => [...document.querySelectorAll('main table')]
+              .filter(t => t.tHead && t.tBodies.length && t.tBodies[0].rows.length
+                           && t.tBodies[0].rows[0].cells.length === t.tHead.rows[0].cells.length)
+              .flatMap(t => [...t.tBodies[0].rows[0].cells].map((td, i) => {
+                 const th = t.tHead.rows[0].cells[i];
+                 return Math.abs(td.getBoundingClientRect().left
+                                 - th.getBoundingClientRect().left) > 1
+                        ? `${th.textContent.trim()}: ${td.textContent.trim().slice(0, 30)}` : null;
+              }).filter(Boolean))""")
+            assert misaligned == [], f"{name}: cells not under their headings: {misaligned}"
     page.set_viewport_size({"width": 1280, "height": 900})
 
 
