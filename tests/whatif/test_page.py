@@ -4,6 +4,7 @@ chosen point into an ordinary, reviewable change of the step."""
 from __future__ import annotations
 
 import re
+from html import unescape
 
 import pytest
 from django.db import connection
@@ -37,6 +38,9 @@ def test_the_page_shows_numbers_charts_inputs_and_the_caution(step, admin_user):
     assert "Criticality class" in html and "Cooling margin" in html
     assert re.search(r"<script(?![^>]*\bsrc=)[^>]*>", html) is None  # CSP: no inline scripts
     assert "whatif/whatif.js" in html
+    # at the lab run's own point the numbers are the series as measured, as on the step page
+    assert ("MTSR and peak from: lab series as measured (lab and plant agree) (the same rule "
+            "as the step's indicators") in unescape(" ".join(html.split()))
 
 
 def test_the_fragment_follows_the_inputs_and_saves_nothing(step, admin_user):
