@@ -37,6 +37,7 @@ from calcs.accumulation import mass_present
 from calcs.errors import require_absolute_temperature, require_positive
 from calcs.semibatch import (
     accumulation_at_end_of_dosing,
+    fit_arrhenius,
     fit_semibatch_series,
     mass_basis_accumulation,
     peak_specific_heat_release,
@@ -161,6 +162,43 @@ def model_from_series(time_s, heat_release_rate_w, dosed_fraction, initial_mass_
     return DosingModel(fit.rate_constant_per_s, fit.temperature_k, activation_energy_j_per_mol,
                        LabBasis(fit.dosing_time_s, fit.temperature_k, fit.initial_mass_fraction),
                        scale, "series fit", tuple(fit.warnings))
+
+
+def arrhenius_of_runs(temperatures_k, rate_constants_per_s, min_spread_k=2.0):
+    """E_a of the desired reaction from the dosing models of runs at several temperatures.
+
+    Equation: ln k = ln A − E_a/(R·T) (:func:`calcs.semibatch.fit_arrhenius`), only when at
+    least two runs lie ``min_spread_k`` or more apart.
+
+    Parameters
+    ----------
+    temperatures_k : sequence of float
+        The runs' temperatures [K].
+    rate_constants_per_s : sequence of float
+        Their fitted k [1/s].
+    min_spread_k : float
+        Smallest spread of temperatures that is fitted [K] (common practice, no source).
+
+    Returns
+    -------
+    ArrheniusFit or None
+        ``None`` for fewer runs or too narrow a spread; raises
+        :class:`calcs.errors.CalcInputError` when k does not rise with T.
+
+    Examples
+    --------
+    >>> f = arrhenius_of_runs([303.15, 313.15], [1e-3, 2.41e-3])
+    >>> round(f.activation_energy_j_per_mol / 1000)
+    69
+
+    References
+    ----------
+    Arrhenius law; Steinbach 1999.
+    """
+    temps = [float(t) for t in temperatures_k]
+    if len(temps) < 2 or max(temps) - min(temps) < min_spread_k:
+        return None
+    return fit_arrhenius(temps, list(rate_constants_per_s))
 
 
 def model_from_accumulation(accumulation, dosing_time_s, temperature_k, initial_mass_fraction,
@@ -430,5 +468,5 @@ def describe(point):
 
 
 __all__ = ["DOSING_TIME_TOLERANCE", "FILL_TOLERANCE", "REFERENCES", "TEMPERATURE_TOLERANCE_K",
-           "DosingModel", "LabBasis", "PointInputs", "describe", "differences", "inputs_at",
+           "DosingModel", "LabBasis", "PointInputs", "arrhenius_of_runs", "describe", "differences", "inputs_at",
            "model_from_accumulation", "model_from_series", "plant_point"]

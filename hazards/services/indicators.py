@@ -21,7 +21,8 @@ from django.db import connections, transaction
 from django.dispatch import Signal
 
 import calcs
-from calcs import scenario
+from calcs import operating_point, scenario
+from calcs.errors import CalcInputError
 from calcs.scenario import MeasureInputs
 from hazards.models import IndicatorSnapshot, ReactionStep
 from hazards.models.base import inputs_written
@@ -109,7 +110,15 @@ SELECT now(),
            AS current,
        (SELECT coalesce(json_agg(row_to_json(x) ORDER BY x.id), '[]'::json) FROM (
             SELECT m.id, m.kind, {measure_columns}
-            FROM hazards_measure m WHERE m.step_id = s.id) x) AS measures
+            FROM hazards_measure m WHERE m.step_id = s.id) x) AS measures,
+       -- every series of a step with two or more: the desired reaction's E_a over the runs
+       (SELECT CASE WHEN count(*) >= 2 THEN json_agg(json_build_object(
+                    'run_id', r2.id, 'sha256', ser2.sha256, 'data', ser2.data,
+                    'initial_mass_kg', ser2.initial_mass_kg,
+                    'feed_mass_kg', ser2.feed_mass_kg) ORDER BY r2.id) END
+        FROM hazards_calorimetryrun r2
+        JOIN hazards_calorimetryseries ser2 ON ser2.run_id = r2.id
+        WHERE r2.step_id = s.id) AS all_series
 FROM hazards_reactionstep s
 WHERE s.id = ANY(%s)
 ORDER BY s.id
@@ -181,9 +190,36 @@ def _measures(rows: list[dict] | None) -> tuple[list[dict], tuple]:
     return inputs, tuple(measures)
 
 
+def dosing_arrhenius(rows: list[dict] | None, process_temperature_k: float):
+    """(E_a [J/mol] or None, the SHA-256 of the series it came from, warnings): the dosing
+    model fitted to each series of the step (as the what-if fits them), then Arrhenius over
+    the runs' temperatures (`calcs.operating_point.arrhenius_of_runs`)."""
+    temps, ks, shas, warnings = [], [], [], []
+    for row in rows or []:
+        d = row["data"]
+        try:
+            model = operating_point.model_from_series(
+                d["time_s"], d["heat_release_rate_w"], d["dosed_fraction"],
+                row["initial_mass_kg"], row["feed_mass_kg"], d.get("reactor_temperature_k"),
+                process_temperature_k)
+        except CalcInputError:
+            continue  # the what-if names the series that do not support the model
+        temps.append(model.reference_temperature_k)
+        ks.append(model.rate_constant_per_s)
+        shas.append(row["sha256"])
+    try:
+        fit = operating_point.arrhenius_of_runs(temps, ks)
+    except CalcInputError as exc:
+        return None, [], [f"Arrhenius fit of the runs refused: {exc.rule}"]
+    if fit is None:
+        return None, [], warnings
+    return fit.activation_energy_j_per_mol, sorted(shas), list(fit.warnings)
+
+
 def case_from_row(step_id: int, step: dict, vessel: dict | None, solvent: dict | None,
                   run: dict | None, test: dict | None, current: dict | None,
-                  measures: list[dict] | None = None) -> StepCase:
+                  measures: list[dict] | None = None,
+                  all_series: list[dict] | None = None) -> StepCase:
     """Assemble one step's cooling-failure scenario from the rows `load_cases` read."""
     vessel, run, test = vessel or {}, run or {}, test or {}
     antoine = None
@@ -213,7 +249,10 @@ def case_from_row(step_id: int, step: dict, vessel: dict | None, solvent: dict |
         )
     kinetics = _kinetics(test.get("kinetics"))
     measure_inputs, measure_cases = _measures(measures)
+    dosing_ea, dosing_shas, _ = (dosing_arrhenius(all_series, step["process_temperature_k"])
+                                 if step["operation_mode"] == "semi_batch" else (None, [], []))
     scenario_inputs = scenario.StepInputs(
+        dosing_activation_energy_j_per_mol=dosing_ea,
         measures=measure_cases,
         **fields,
         decomposition_kinetics=kinetics,
@@ -230,6 +269,8 @@ def case_from_row(step_id: int, step: dict, vessel: dict | None, solvent: dict |
         "peak_temperatures": [list(p) for p in peaks],
         # Only steps with measures carry the key, so the others keep their inputs hash.
         **({"measures": measure_inputs} if measure_inputs else {}),
+        # likewise the series an E_a of the desired reaction was fitted over (two or more runs)
+        **({"dosing_arrhenius_series_sha256": dosing_shas} if dosing_ea is not None else {}),
         "decomposition_kinetics": None if kinetics is None else {
             "model": kinetics.model, "parameters": list(kinetics.parameters),
             "reference_temperature_k": kinetics.reference_temperature_k,

@@ -187,13 +187,14 @@ def build_model(case, rows: list[dict], *, activation_energy_j_per_mol: float | 
         # the plant's fill where entered, else the lab's (as the step's assessment)
         r0 = s.initial_mass_fraction or fit.initial_mass_fraction
         scale, name = scales[row["run_id"]], "pseudo_first_order.series_fit"
-        temps = [f.temperature_k for _, f in fits]
-        if len(fits) >= 2 and max(temps) - min(temps) >= 2.0:
-            try:
-                arrhenius = semibatch.fit_arrhenius(temps, [f.rate_constant_per_s for _, f in fits])
+        # the same rule as the step's indicators (hazards.services.indicators.dosing_arrhenius)
+        try:
+            arrhenius = operating_point.arrhenius_of_runs(
+                [f.temperature_k for _, f in fits], [f.rate_constant_per_s for _, f in fits])
+            if arrhenius is not None:
                 warnings.extend(f"Arrhenius fit: {w}" for w in arrhenius.warnings)
-            except CalcInputError as exc:
-                warnings.append(f"Arrhenius fit of the runs refused: {exc.rule}")
+        except CalcInputError as exc:
+            warnings.append(f"Arrhenius fit of the runs refused: {exc.rule}")
     else:
         x_ac, td0 = s.max_accumulation, s.dosing_time_s
         if x_ac is None or not 0.0 < x_ac < 1.0 or td0 is None:

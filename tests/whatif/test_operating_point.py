@@ -116,3 +116,18 @@ def test_the_power_chart_runs_on_the_plants_time_axis(plant_step):
                                                         rel=1e-9)
     assert curves["time_s"][i] == pytest.approx(PLANT_TD)
     assert max(curves["mtsr_k"]) == pytest.approx(snap.values["mtsr_k"], abs=0.05)
+
+
+def test_with_runs_at_two_temperatures_the_step_and_the_what_if_share_the_fitted_ea(
+        step, second_run):
+    # runs at 30 and 40 °C generated with E_a = 70 kJ/mol (conftest); the plant at 35 °C over
+    # 180 min: the step's indicators move k by the same fitted E_a as the what-if does
+    record_update(instance=step, data={"dosing_time_s": PLANT_TD,
+                                       "process_temperature_k": 308.15})
+    snap = snapshot(step)
+    assert snap.parameters["operating_point_mode"] == "model"
+    assert snap.parameters["dosing_activation_energy_j_per_mol"] == pytest.approx(70e3, rel=1e-3)
+    assert snap.parameters["operating_point_differences"] == "dosing time, temperature"
+    point = at_own_point(step)
+    assert point.mtsr_k == pytest.approx(snap.values["mtsr_k"], abs=1e-9)
+    assert point.cooling_margin == pytest.approx(snap.values["cooling_margin"], rel=1e-9)
