@@ -52,6 +52,13 @@ def remember_display_units(request, units: DisplayUnits) -> None:
     request.session[DISPLAY_UNITS] = [units.temperature, units.power, units.pressure]
 
 
+def remember_display_units_at_sign_in(sender, request=None, user=None, **kwargs) -> None:
+    """`user_logged_in` receiver: the session starts with the person's units, so that no page
+    reads them (a page's queries stay the same from the first one on)."""
+    if request is not None and hasattr(request, "session") and user is not None:
+        remember_display_units(request, display_units_of(user))
+
+
 class DisplayUnitsMiddleware:
     """Pages write temperatures, powers and pressures in the signed-in person's units
     (hazards.quantities.display_units). The API keeps its canonical units: not under /api/."""

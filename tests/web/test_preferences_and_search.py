@@ -153,3 +153,15 @@ def test_each_group_is_bounded_and_says_how_many_more(
     assert len(re.findall(r'href="/steps/\d', html)) == search.PER_GROUP
     assert "3 more not shown" in html
     assert "Steps <span class=\"small\">(13)</span>" in html
+
+
+def test_the_units_come_with_the_sign_in_so_no_page_reads_them(people, step, client_as):
+    from django.db import connection
+    from django.test.utils import CaptureQueriesContext
+
+    DisplayPreference.objects.create(user=people["reviewer"], temperature_unit="kelvin")
+    reviewer = client_as(people["reviewer"])  # signs in (user_logged_in)
+    with CaptureQueriesContext(connection) as ctx:
+        html = reviewer.get(f"/steps/{step.pk}/").content.decode()
+    assert not [q for q in ctx.captured_queries if "hazards_displaypreference" in q["sql"]]
+    assert "303.1 K" in html  # 30 °C in kelvin, at the pages' 4 significant digits
