@@ -209,3 +209,38 @@ def test_tmrad_beyond_a_decade_is_marked_at_the_top_instead_of_stretching_the_ax
     assert "10⁵" in ticks and "10⁶" not in ticks and "10000" not in ticks, ticks
     # A step whose MTSR is within the plot keeps its point and its time (SNAP: 591 h).
     assert "above the plot" not in _texts(charts.tmr_chart(SNAP))
+
+
+# The same step whose plant doses over 180 min while its lab series was dosed over 60 min: the
+# snapshot records the dosing model at the plant's point (calcs.operating_point; issue 21).
+PLANT = {**SNAP, "values": {**SNAP["values"], "mtsr_k": 307.03,
+                            "plant_peak_heat_release_w": 55555.6, "cooling_margin": 1.512},
+         "parameters": {**SNAP["parameters"], "operating_point_mode": "model",
+                        "plant_dosing_time_s": 10800.0, "lab_dosing_time_s": 3600.0,
+                        "plant_initial_mass_fraction": 0.8,
+                        "dosing_model_rate_constant_per_s": 0.1 / 60,
+                        "dosing_model_peak_scale": 1.0}}
+
+
+def test_a_plant_dosing_at_another_time_is_drawn_on_the_plants_time_axis():
+    power = _texts(charts.heat_release_chart(PLANT, SERIES))
+    assert "time from start of dosing at the plant / h" in power
+    assert "dosing model at plant scale" in power
+    assert "heat release scaled to plant mass" not in power  # the lab record is not the plant
+    assert "plant dosing 180 min" in power
+    accumulation = _texts(charts.accumulation_chart(PLANT, SERIES))
+    assert "dosing model at the plant's 180 min dosing" in accumulation.replace("&#x27;", "'")
+    # METHODS.md C2.2 plant, C1.7 reaction: peak 120e3·(1 − e^(−18))/10800·5000 = 55.56 kW at
+    # the end of the 180 min feed [COMPUTED]
+    curves = charts.plant_dosing_curves(PLANT)
+    assert curves["heat_release_w"].max() == pytest.approx(55555.6, rel=1e-4)
+    assert curves["time_s"][curves["heat_release_w"].argmax()] == pytest.approx(10800.0)
+
+
+def test_without_a_model_the_plant_power_is_not_drawn_on_the_labs_time_axis():
+    snap = {**PLANT, "parameters": {**PLANT["parameters"], "operating_point_mode": "no_credit"}}
+    power = _texts(charts.heat_release_chart(snap, SERIES))
+    assert "heat release scaled to plant mass" not in power
+    assert "peak heat release at plant scale" in power
+    accumulation = _texts(charts.accumulation_chart(snap, SERIES))
+    assert "no credit for reaction during dosing" in accumulation
