@@ -18,6 +18,8 @@ from __future__ import annotations
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 
+import numpy as np
+
 from calcs.constants import HOUR
 
 REFERENCES = ("stoessel1993", "stoessel2008")
@@ -145,6 +147,56 @@ def criticality_class(
             return 1 if mtt_k < td24_k else 2
         return 3
     return 4 if mtt_k < td24_k else 5
+
+
+
+def _class_or_zero(mtsr_k: float, mtt_k: float, td24_k: float) -> int:
+    def known(value: float) -> float | None:
+        return None if np.isnan(value) else float(value)
+
+    return criticality_class(None, known(mtsr_k), known(mtt_k), known(td24_k)) or 0
+
+
+# One rule, element by element: the array form must never become a second copy of it.
+_class_grid = np.vectorize(_class_or_zero, otypes=[int])
+
+
+def criticality_classes(mtsr_k, mtt_k, td24_k):
+    """Stoessel criticality class for arrays of MTSR, MTT and TD24 (0 where one is unknown).
+
+    Equation: :func:`criticality_class` applied element by element (METHODS.md §4.1, ties
+    to the more critical class); NaN stands for an unknown value.
+
+    Parameters
+    ----------
+    mtsr_k : array_like
+        MTSR [K] (NaN unknown).
+    mtt_k : array_like
+        MTT [K] (NaN unknown); broadcasts.
+    td24_k : array_like
+        TD24 [K] (NaN unknown); broadcasts.
+
+    Returns
+    -------
+    numpy.ndarray
+        Integer classes 1-5, 0 where an input is unknown.
+
+    Validity: as :func:`criticality_class`, element by element.
+
+    Examples
+    --------
+    >>> criticality_classes([353.15, 423.15], 383.15, 423.15).tolist()  # C4.1, tie
+    [1, 4]
+
+    References
+    ----------
+    Stoessel 1993; Stoessel 2008 ch. 3 (from memory); METHODS.md §4.1.
+    """
+    mtsr, mtt, td = np.broadcast_arrays(*(np.asarray(v, dtype=float)
+                                          for v in (mtsr_k, mtt_k, td24_k)))
+    if mtsr.size == 0:
+        return np.zeros(mtsr.shape, dtype=int)
+    return np.asarray(_class_grid(mtsr, mtt, td))
 
 
 def td24_at_or_below_process_temperature(

@@ -38,6 +38,7 @@ from scipy import optimize
 
 from calcs.accumulation import cumulative_heat
 from calcs.constants import R
+from calcs.criticality import criticality_classes
 from calcs.errors import (
     CalcInputError,
     require_absolute_temperature,
@@ -613,45 +614,6 @@ def fit_arrhenius(temperatures_k, rate_constants_per_s):
     return ArrheniusFit(ea, float(intercept), r2, int(t.size), tuple(warnings))
 
 
-def criticality_classes(mtsr_k, mtt_k, td24_k):
-    """Stoessel criticality class for arrays of MTSR, MTT and TD24 (0 where one is unknown).
-
-    Equation (METHODS.md §4.1, ties to the more critical class): MTSR < TD24 →
-    (1 if MTT < TD24 else 2) if MTSR < MTT else 3; otherwise 4 if MTT < TD24 else 5.
-
-    Parameters
-    ----------
-    mtsr_k : array_like
-        MTSR [K].
-    mtt_k : array_like
-        MTT [K] (NaN unknown); broadcasts.
-    td24_k : array_like
-        TD24 [K] (NaN unknown); broadcasts.
-
-    Returns
-    -------
-    numpy.ndarray
-        Integer classes 1-5, 0 where an input is unknown.
-
-    Validity: as :func:`calcs.criticality.criticality_class`, element by element.
-
-    Examples
-    --------
-    >>> criticality_classes([353.15, 423.15], 383.15, 423.15).tolist()  # C4.1, tie
-    [1, 4]
-
-    References
-    ----------
-    Stoessel 1993; Stoessel 2008 ch. 3 (from memory); METHODS.md §4.1.
-    """
-    mtsr, mtt, td = np.broadcast_arrays(*(np.asarray(v, dtype=float)
-                                          for v in (mtsr_k, mtt_k, td24_k)))
-    below = np.where(mtsr < mtt, np.where(mtt < td, 1, 2), 3)
-    above = np.where(mtt < td, 4, 5)
-    out = np.where(mtsr < td, below, above)
-    return np.where(np.isnan(mtsr) | np.isnan(mtt) | np.isnan(td), 0, out).astype(int)
-
-
 @dataclass(frozen=True)
 class OperatingWindow:
     """Grid of dosing times (columns) × process temperatures (rows), SI arrays."""
@@ -682,7 +644,7 @@ def operating_window(dosing_times_s, temperatures_k, rate_constant_per_s,
 
     Equation: k(T) by Arrhenius; X_eff from :func:`mass_basis_accumulation`;
     MTSR = T + X_eff·Q′/c_p; peak = peak_scale·Q′·(1 − e^{−k·t_d})/t_d·m;
-    margin = U·A·(T − T_c)/peak; class from :func:`criticality_classes`;
+    margin = U·A·(T − T_c)/peak; class from :func:`calcs.criticality.criticality_classes`;
     safe = margin ≥ minimum and class in acceptable_classes (or ``rule``).
 
     Parameters

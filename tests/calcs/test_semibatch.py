@@ -291,3 +291,40 @@ def test_the_dosing_profile_peaks_at_the_mass_basis_maximum():
     assert a.max() == pytest.approx(0.166254, abs=1e-6)
     assert mtsr.max() - 273.15 == pytest.approx(40.584, abs=1e-3)
     assert t[-1] == pytest.approx(TD + 1800.0)  # 3/k = 30 min after the end of dosing
+
+
+# Cases built here to hit every tie of METHODS.md §4.1 ("ties to the more critical class");
+# the expected class of each cell is calcs.criticality.criticality_class, the one rule.
+TIE_VALUES = (340.0, 350.0, 360.0, math.nan)
+
+
+@pytest.mark.parametrize("process_temperature_k", [300.0, 340.0, 350.0])
+def test_the_window_classes_follow_the_one_rule_on_a_grid_with_ties(process_temperature_k):
+    m, t, d = np.meshgrid(TIE_VALUES, TIE_VALUES, TIE_VALUES, indexing="ij")
+    vec = criticality_classes(m, t, d)
+    for idx in np.ndindex(m.shape):
+        args = [None if math.isnan(v) else float(v) for v in (m[idx], t[idx], d[idx])]
+        assert vec[idx] == (criticality.criticality_class(process_temperature_k, *args) or 0)
+    # ties by construction: each class appears, and MTSR = TD24 is 4 or 5, never 1-3
+    assert set(vec.ravel().tolist()) == {0, 1, 2, 3, 4, 5}
+    assert set(vec[m == d].tolist()) <= {0, 4, 5}
+
+
+def test_a_window_with_mtt_and_td24_equal_to_a_cells_mtsr_classes_each_cell_by_the_one_rule():
+    td = np.array([1800.0, 3600.0, 7200.0])
+    temps = np.array([303.15, 313.15])
+    first = operating_window(td, temps, **WINDOW)
+    tie = float(first.mtsr_k[1, 1])  # a cell's own MTSR, so that cell sits on the boundary
+    for mtt, td24 in [(tie, 500.0), (383.15, tie), (tie, tie), (np.array([tie, 383.15]), tie)]:
+        w = operating_window(td, temps, **{**WINDOW, "mtt_k": mtt, "td24_k": td24})
+        mtt_rows = np.broadcast_to(np.asarray(mtt, dtype=float), temps.shape)
+        for i, j in np.ndindex(w.mtsr_k.shape):
+            expected = criticality.criticality_class(
+                float(temps[i]), float(w.mtsr_k[i, j]), float(mtt_rows[i]), float(td24))
+            assert w.criticality_class[i, j] == expected, (mtt, td24, i, j)
+        assert w.mtsr_k[1, 1] == tie
+    on_boundary = operating_window(td, temps, **{**WINDOW, "mtt_k": 383.15, "td24_k": tie})
+    assert tie < 383.15  # so MTSR = TD24 < MTT: class 5 (METHODS.md §4.1, tie to the worse)
+    assert on_boundary.criticality_class[1, 1] == 5
+    assert on_boundary.criticality_class[1, 2] == 2  # the next cell, MTSR just below TD24
+
