@@ -313,7 +313,7 @@ def method_text(method: str, key: str, params: dict, inputs: dict) -> str:
     where the number came from."""
     text = cited(method_label(key))
     source = point_source(params, inputs) if method in _POINT_METHODS else ""
-    return f"{text} ({source})" if source else text
+    return f"{text}; here: {source}" if source else text
 
 
 def operating_point_view(params: dict) -> dict | None:
