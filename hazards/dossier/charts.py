@@ -274,6 +274,10 @@ def cooling_failure_chart(snapshot) -> str:
     mtt, td24, tmr = values.get("mtt_k"), values.get("td24_k"), values.get("tmr_ad_at_mtsr_s")
     cp = inputs.get("specific_heat_capacity_j_per_kg_k")
     rate = inputs.get("max_heat_release_rate_w_per_kg")
+    if _point_mode(snap) in ("model", "no_credit") and values.get("plant_peak_heat_release_w") \
+            and inputs.get("reaction_mass_kg"):
+        # the lab's peak belongs to the lab's dosing time: the plant's peak, per kg
+        rate = values["plant_peak_heat_release_w"] / inputs["reaction_mass_kg"]
     # Rise of the synthesis at the peak adiabatic rate (linear: a short, conservative time).
     t_rise_h = ((mtsr - tp) / (rate / cp) / HOUR) if (rate and cp and mtsr > tp) else 0.5
     rise_note = "at the peak heat-release rate" if (rate and cp) else "schematic duration"

@@ -244,3 +244,12 @@ def test_without_a_model_the_plant_power_is_not_drawn_on_the_labs_time_axis():
     assert "peak heat release at plant scale" in power
     accumulation = _texts(charts.accumulation_chart(snap, SERIES))
     assert "no credit for reaction during dosing" in accumulation
+
+
+def test_the_cooling_failure_rise_uses_the_plants_peak_not_the_labs():
+    # plant 55.56 kW / 5000 kg = 11.1 W/kg against the lab's 33.25 W/kg: a rise of MTSR − Tp =
+    # 3.88 K at 11.1/2000 K/s takes 0.19 h, at the lab's rate 0.065 h [COMPUTED here]
+    # the same snapshot read as if lab and plant agreed draws the lab's rate: only the mode
+    # differs, so equal drawings would mean the plant's peak was ignored
+    as_lab = {**PLANT, "parameters": {**PLANT["parameters"], "operating_point_mode": "series"}}
+    assert charts.cooling_failure_chart(as_lab) != charts.cooling_failure_chart(PLANT)
