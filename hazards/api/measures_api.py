@@ -226,7 +226,7 @@ class MeasurePolicyFilter(StrictFilterSet):
 class MeasurePolicyViewSet(
     SingleQueryValuesMixin, IdempotentPostMixin, ETagMixin, viewsets.ModelViewSet
 ):
-    """Which measures each class requires before endorsement, per site (administrators
+    """Which measures each class requires before the approval, per site (administrators
     change it: the model permissions of `MeasurePolicy`)."""
 
     queryset = MeasurePolicy.objects.select_related("site").all()

@@ -36,7 +36,7 @@ def window_days(request) -> int:
 
 
 class RevalidationView(APIView):
-    """Endorsed revisions whose revalidation falls due within the window, and those overdue.
+    """Approved revisions (state `endorsed`) whose revalidation falls due within the window, and those overdue.
 
     The default interval follows OSHA 29 CFR 1910.119(e)(6); each site sets its own
     (`revalidation_interval_months`), and local rules may differ.

@@ -27,7 +27,7 @@ class ScheduleSerializer(serializers.ModelSerializer):
 
 
 class RevalidationSerializer(serializers.Serializer):
-    """GET /revalidation/: endorsed revisions due within the window, and those overdue."""
+    """GET /revalidation/: approved revisions (state `endorsed`) due within the window, and those overdue."""
 
     today = serializers.DateField()
     within_days = serializers.IntegerField()

@@ -127,7 +127,7 @@ class RevisionViewSet(ReviewErrors, IdempotentPostMixin, mixins.ListModelMixin,
         return self._sign(request, "reviewed")
 
     @extend_schema(request=s.SignSerializer, responses={201: s.SignatureSerializer},
-                   summary="An approver endorses a checked revision (approved).")
+                   summary="An approver approves a checked revision (signature meaning `approved`, state `endorsed`).")
     @action(detail=True, methods=["post"])
     def approve(self, request, pk=None):
         return self._sign(request, "approved")
@@ -220,7 +220,7 @@ class FindingViewSet(ReviewErrors, IdempotentPostMixin, ContentETagMixin,
     only the raiser, or a reviewer or approver of the process who does not own the finding,
     resolves, withdraws or reopens it or changes its kind, owner or due date; only the raiser
     corrects the title and description (every version stays in the history). A blocking
-    finding bars endorsement until it is resolved or withdrawn. Changes need `If-Match` with
+    finding bars the approval until it is resolved or withdrawn. Changes need `If-Match` with
     the finding's ETag (428 without, 412 when stale)."""
 
     filterset_fields = ["process", "revision", "status", "kind", "owner"]
@@ -323,8 +323,8 @@ class ProcessHistoryView(ReviewErrors, APIView):
 
 class ProcessApprovalView(ReviewErrors, APIView):
     """Which revision of the process is in force, which collects changes, and which
-    indicators differ from the approved ones. An endorsed revision stays in force until a
-    later one is endorsed."""
+    indicators differ from the approved ones. An approved revision (state `endorsed`) stays in
+    force until a later one is approved."""
 
     @extend_schema(responses=s.ApprovalStatusSerializer,
                    summary="The approval in force and the changes pending." + CAUTION)

@@ -59,6 +59,12 @@ class InitialStateField(serializers.ChoiceField):
         return value or None
 
 
+# The state values are a contract of the API and keep their names; the words for them are the
+# pages' (DEVELOPERS.md, "Words"): `endorsed` is the approved revision in force.
+STATE_HELP = ("The review state, a fixed wire value: "
+              + "; ".join(f"`{value}` = {label}" for value, label in ReviewState.choices) + ".")
+
+
 class TransitionSerializer(serializers.ModelSerializer):
     from_state = InitialStateField(
         choices=ReviewState.choices, allow_null=True, read_only=True,
@@ -81,13 +87,15 @@ class RevisionSerializer(serializers.ModelSerializer):
     created_by = serializers.SlugRelatedField(
         slug_field="username", read_only=True, allow_null=True,
         help_text="Who opened it; null when the application did (e.g. on import).")
-    state_text = serializers.CharField(source="get_state_display", read_only=True)
+    state_text = serializers.CharField(source="get_state_display", read_only=True,
+                                       help_text="The state in the words the pages use.")
 
     class Meta:
         model = ProcessRevision
         fields = ["id", "process", "number", "state", "state_text", "content_sha256",
                   "created_at", "created_by", "signatures", "transitions"]
         read_only_fields = fields
+        extra_kwargs = {"state": {"help_text": STATE_HELP}}
 
 
 class RevisionDetailSerializer(RevisionSerializer):
@@ -256,7 +264,7 @@ StepDifferenceSerializer._declared_fields["class"] = IndicatorChangeSerializer(r
 
 class ApprovalStatusSerializer(serializers.Serializer):
     in_force = RevisionRefSerializer(allow_null=True,
-                                     help_text="The endorsed revision the plant runs on.")
+                                     help_text="The approved revision the plant runs on.")
     pending = PendingRevisionSerializer(allow_null=True,
                                         help_text="The revision collecting changes, if any.")
     indicators_differ = serializers.BooleanField()

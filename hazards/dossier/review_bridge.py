@@ -137,8 +137,10 @@ def history(process, revision, since) -> list[dict]:
     for t in rows.select_related("revision", "actor").order_by("at", "pk"):
         who = (t.actor.get_full_name() or t.actor.get_username()) if t.actor else "the system"
         out.append({"at": _iso(t.at),
-                    "what": f"revision {t.revision.number}: {t.from_state or 'new'} → "
-                            f"{t.to_state}",
+                    # The states in words (their labels), never the wire values.
+                    "what": f"revision {t.revision.number}: "
+                            f"{t.get_from_state_display() if t.from_state else 'new'} → "
+                            f"{t.get_to_state_display()}",
                     "detail": f"by {who}" + (f": {t.reason}" if t.reason else "")})
     return out
 

@@ -115,7 +115,7 @@ def _measure_notice(measure, period) -> Notice | None:
     body = (f"The protective measure \u201c{what}\u201d of step {step.sequence}. {step.name} "
             f"({process.name}) that you own is {measure.get_status_display().lower()} and "
             f"{'is overdue' if overdue else 'falls due'} ({measure.due_date:%Y-%m-%d}). The "
-            "site's policy may require it proven, with its evidence, before endorsement.")
+            "site's policy may require it proven, with its evidence, before the approval.")
     people = [owner] if owner.is_active and roles_on(owner, process.pk) else []
     return Notice(process, people, subject, body, f"/steps/{step.pk}/#measures")
 
@@ -123,9 +123,9 @@ def _measure_notice(measure, period) -> Notice | None:
 REVALIDATION_TODO = (
     "What to do: on the review page of the process (link below) an author opens a new draft "
     "revision, checks the data and indicators of every step against the plant as it runs now, "
-    "corrects what changed (each change with its reason) and lodges the revision; a reviewer "
-    "checks it and an approver endorses it. The endorsement starts the next interval; until "
-    "then the current approval stays in force.")
+    "corrects what changed (each change with its reason) and submits the revision for review; "
+    "a reviewer reviews it and an approver approves it. That approval starts the next "
+    "interval; until then the current approval stays in force.")
 
 
 def _revalidation_notice(schedule, period) -> Notice | None:
@@ -155,8 +155,8 @@ def _lapsed_notice(revision) -> Notice | None:
                   f"{revision.number}",
                   f"The inputs of approved steps of {process.name} changed after revision "
                   f"{revision.number} was approved. Revision {revision.number} stays in force "
-                  "until a later revision is endorsed; the changes collect in the next draft, "
-                  "which needs review and endorsement before the plant may run on it.\n"
+                  "until a later revision is approved; the changes collect in the next draft, "
+                  "which needs review and approval before the plant may run on it.\n"
                   + "\n".join(lines), f"/changes/?process={process.pk}")
 
 

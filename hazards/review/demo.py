@@ -83,6 +83,6 @@ def _drive(process, target, users, password) -> str:
         findings.finding_raise(
             process=process, revision=first, user=reviewer, kind="blocking", owner=author,
             title="Dosing interlock of step 1 not yet documented",
-            description="Blocking: endorsement waits for the interlock test record.",
+            description="Blocking: the approval waits for the interlock test record.",
             due_date=DUE)
     return target

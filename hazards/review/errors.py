@@ -5,7 +5,7 @@ from __future__ import annotations
 # Permission
 NOT_AN_AUTHOR = "Only an author of this process can do this."
 NOT_A_REVIEWER = "Only a reviewer of this process can check a lodged revision."
-NOT_AN_APPROVER = "Only an approver of this process can endorse a checked revision."
+NOT_AN_APPROVER = "Only an approver of this process can approve a checked revision."
 CANNOT_SEND_BACK = "Only a reviewer (lodged) or an approver (lodged or checked) can send a revision back."
 CANNOT_RAISE_FINDING = "Only a reviewer or an approver of this process can record findings."
 CANNOT_CHANGE_FINDING = "Only a reviewer or approver of the process, or the finding's owner, can change it."
@@ -33,8 +33,8 @@ UNKNOWN_MEANING = "The meaning of a signature is authored, reviewed or approved.
 # State
 NOT_DRAFTING = "Only a revision being drafted can be lodged."
 NOT_LODGED = "Only a lodged revision can be checked."
-NOT_CHECKED = "Only a checked revision can be endorsed."
-NOT_WITHIN_LIGHT_PATH = ("Only a checked revision can be endorsed: the lighter review path "
+NOT_CHECKED = "Only a checked revision can be approved."
+NOT_WITHIN_LIGHT_PATH = ("Only a checked revision can be approved: the lighter review path "
                          "(no reviewer step) needs every open change of the process within "
                          "the site's tolerances and the same criticality class.")
 NOT_UNDER_REVIEW = "Only a lodged or checked revision can be sent back."
@@ -48,10 +48,10 @@ NOT_AN_UNMET_REQUIREMENT = ("Only a requirement this revision does not meet can 
                             "a risk.")
 NOT_BEFORE_ENDORSEMENT = "A risk acceptance is recorded on a lodged or checked revision."
 ALREADY_ACCEPTED = "This requirement of the step is already accepted on this revision."
-OPEN_BLOCKING_FINDINGS = "Blocking findings are still open; close them before endorsement."
+OPEN_BLOCKING_FINDINGS = "Blocking findings are still open; close them before the approval."
 REASON_REQUIRED = "A reason is required."
-IN_FORCE_UNTIL_REPLACED = ("An endorsed revision stays in force until a later revision of its "
-                           "process is endorsed.")
+IN_FORCE_UNTIL_REPLACED = ("An approved revision stays in force until a later revision of its "
+                           "process is approved.")
 FINDING_FROZEN = "A resolved or withdrawn finding is not changed again."
 NOT_OPEN_FINDING = "Only an open finding can be marked ready for check."
 NOT_READY_FINDING = "Only a finding marked ready for check can be reopened."

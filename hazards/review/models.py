@@ -28,10 +28,11 @@ class ReviewState(models.TextChoices):
     DRAFTING = "drafting", "Being drafted"
     LODGED = "lodged", "Lodged for review (signed by its author)"
     CHECKED = "checked", "Checked by process safety"
-    ENDORSED = "endorsed", "Endorsed by the safety committee"
+    # Wire value "endorsed" (a contract of the API and the records); its words are "approved".
+    ENDORSED = "endorsed", "Approved by the safety committee"
     SENT_BACK = "sent_back", "Sent back to the author"
-    REPLACED = "replaced", ("Replaced (a later revision was endorsed, or it changed before "
-                            "endorsement)")
+    REPLACED = "replaced", ("Replaced (a later revision was approved, or it changed before "
+                            "approval)")
 
 
 class Meaning(models.TextChoices):
@@ -316,7 +317,7 @@ class Transition(models.Model):
 
 
 class FindingKind(models.TextChoices):
-    BLOCKING = "blocking", "Blocking (no endorsement while open)"
+    BLOCKING = "blocking", "Blocking (no approval while open)"
     ADVISORY = "advisory", "Advisory"
 
 

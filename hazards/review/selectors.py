@@ -166,10 +166,10 @@ INDICATOR_NAMES = {
     "end_pressure_pa": "pressure at MTSR",
 }
 IN_FORCE = "In force: revision {number}"
-NONE_IN_FORCE = "No revision is in force: none has been endorsed yet"
+NONE_IN_FORCE = "No revision is in force: none has been approved yet"
 PENDING = {"drafting": "changes pending in draft {number}",
            "lodged": "changes pending in revision {number}, lodged for review",
-           "checked": "changes pending in revision {number}, checked and awaiting endorsement"}
+           "checked": "changes pending in revision {number}, checked and awaiting approval"}
 NOTHING_PENDING = "no changes pending"
 DIFFER = "these indicators differ from the approved ones: {items}"
 SAME = "the indicators are those approved"

@@ -52,7 +52,7 @@ STATE_TEXT = {
     "drafting": "Draft",
     "lodged": "Lodged for review",
     "checked": "Checked",
-    "endorsed": "Endorsed",
+    "endorsed": "Approved",
     "sent_back": "Sent back",
     "replaced": "Replaced",
     "none": "No revision",

@@ -51,7 +51,7 @@ NEXT_SIGNATURE = {
 }
 SIGN_VERB = {Meaning.AUTHORED: "Submit for review (sign as author)",
              Meaning.REVIEWED: "Sign as reviewer",
-             Meaning.APPROVED: "Sign as approver (endorse)"}
+             Meaning.APPROVED: "Approve (sign as approver)"}
 
 
 def on_light_path(revision) -> bool:
@@ -77,7 +77,7 @@ def review_actions(user, process, revision, *, light: bool | None = None) -> dic
             # (revision_sign re-checks it under lock and records why).
             actions["sign"] = {"meaning": Meaning.APPROVED,
                                "label": Meaning(Meaning.APPROVED).label,
-                               "verb": "Sign as approver on the lighter review path (endorse)",
+                               "verb": "Approve on the lighter review path (sign as approver)",
                                "light": True}
         if revision.state == ReviewState.LODGED and roles & {Role.REVIEWER, Role.APPROVER}:
             actions["send_back"] = True

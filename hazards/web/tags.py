@@ -46,6 +46,12 @@ def state(value):
                        value, display.STATE_TEXT.get(value, value))
 
 
+@register.filter
+def state_text(value) -> str:
+    """A review state in the pages' words (the wire value never shows)."""
+    return display.STATE_TEXT.get(value or "none", value)
+
+
 @register.simple_tag(takes_context=True)
 def query(context, **changes):
     """The current query string with some parameters changed (filters survive in the URL)."""

@@ -61,7 +61,7 @@ def content(steps: int) -> dict:
         "schema": "exoledger.dossier/1",
         "process": {"id": 1, "name": "Bench route", "description": "",
                     "site": {"code": "varnholt", "name": "Varnholt works"}},
-        "revision": {"id": 1, "number": 3, "state": "endorsed", "state_label": "Endorsed",
+        "revision": {"id": 1, "number": 3, "state": "endorsed", "state_label": "Approved by the safety committee",
                      "created_at": "2026-03-01T08:00:00Z", "content_sha256": "0" * 64},
         "signatures": [{"printed_name": "Bench Signer", "meaning": "approved",
                         "meaning_label": "Approved", "signed_at": "2026-03-02T09:00:00Z"}],

@@ -90,7 +90,7 @@ def test_the_summary_findings_history_and_references_are_printed(issued_data):
     assert "Author Persona" in text  # the finding's owner
     assert "Open" in text
     assert "Change history" in text
-    assert "revision 1: drafting → lodged" in text
+    assert "revision 1: Being drafted → Lodged for review (signed by its author)" in text
     assert content["context"]["audit_head_hash"] in text.replace(" ", "")
     from calcs.constants import REFERENCES
 

@@ -33,3 +33,10 @@ def test_labels_of_older_snapshots_print_without_the_lookup_note():
     assert parameter_row("probability_scale", "severity 3-level (Stoessel 2008, from memory)")[
         "value"] == "severity 3-level (Stoessel 2008)"
 
+
+
+def test_no_page_of_the_dossier_uses_a_retired_word_for_the_approval(issued_data):
+    # One vocabulary (issue 21 item 5; DEVELOPERS.md, "Words"): approve / approved / approval.
+    text = " ".join(page_texts(issued_data["pdf"]))
+    assert not re.search(r"endors", text, re.I), re.search(r".{80}endors.{40}", text, re.I)
+    assert "Approved by the safety committee" in text  # the state of the signed revision

@@ -175,11 +175,11 @@ def test_the_whole_job(world, live_server, browser, artifacts, tmp_path):
     approver.reload()
     expect(approver.locator("#approval-blocked")).to_have_count(0)
     approver.get_by_label("Your password").fill("a wrong password")
-    approver.get_by_role("button", name="Sign as approver (endorse)").click()
+    approver.get_by_role("button", name="Approve (sign as approver)").click()
     expect(approver.locator("#err-sign-password")).to_contain_text("nothing was signed")
     approver.get_by_label("Your password").fill(PASSWORD)
-    approver.get_by_role("button", name="Sign as approver (endorse)").click()
-    expect(approver.locator(".lead .state")).to_have_text(re.compile("Endorsed"))
+    approver.get_by_role("button", name="Approve (sign as approver)").click()
+    expect(approver.locator(".lead .state")).to_have_text(re.compile("Approved"))
     expect(approver.locator(".signatures li")).to_have_count(3)
 
     # --- The auditor issues and downloads the dossier, and it verifies.

@@ -43,7 +43,7 @@ def test_step_review_and_start_pages_show_the_measures(client, process, author, 
     assert "relief specialist" in page
     revision_in(process, "checked", author=author, reviewer=reviewer)
     review = client.get(f"/processes/{process.pk}/review/").content.decode()
-    assert "Blocks endorsement." in review and "Quench is in place" in review
+    assert "Blocks the approval." in review and "Quench is in place" in review
     home = client.get("/").content.decode()
     assert "Protective measures overdue" in home and "quench tank T-12" in home
 

@@ -193,11 +193,11 @@ def test_the_approver_signs_on_the_lighter_path_in_the_browser(endorsed, step, p
     approver.force_login(people["approver"])
     reviewer.force_login(people["reviewer"])
     page = approver.get(f"/processes/{process.pk}/review/").content.decode()
-    assert "Sign as approver on the lighter review path (endorse)" in page
+    assert "Approve on the lighter review path (sign as approver)" in page
     assert 'name="sign-meaning" value="approved"' in page
     # The reviewer still gets the ordinary reviewer's signature, not the lighter one.
     other = reviewer.get(f"/processes/{process.pk}/review/").content.decode()
-    assert "Sign as reviewer" in other and "lighter review path (endorse)" not in other
+    assert "Sign as reviewer" in other and "Approve on the lighter review path" not in other
 
     done = approver.post(f"/revisions/{revision.pk}/sign/", {
         "sign-meaning": "approved", "sign-password": PASSWORD, "sign-reason": ""})

@@ -102,5 +102,5 @@ def test_the_process_history_is_in_words_not_python_dicts(people, process, edite
     assert "the frozen content: step 1. Sulfonation in water (1 calorimetry run, " in text
     assert "Revision 2" in text and "Step 1. Sulfonation in water" in text
     assert "actor : — → Approver Persona" in text  # a person by name, not a user id
-    assert "Endorsed by the safety committee" in text  # a state by its words
+    assert "Approved by the safety committee" in text  # a state by its words
     assert "+00:00" not in text

@@ -63,10 +63,10 @@ from hazards.review.signing import (
 )
 
 REPLACED_BECAUSE_CHANGED = "The content of the process changed after the revision was signed."
-REPLACED_BY_LATER = "Revision {number} of the process was endorsed and is now in force."
+REPLACED_BY_LATER = "Revision {number} of the process was approved and is now in force."
 OPENED_AFTER = "Opened after revision {number} was {state}."
 OPENED_FOR_CHANGES = ("Opened for changes to revision {number}, which stays in force until a "
-                      "later revision is endorsed.")
+                      "later revision is approved.")
 
 
 def revision_content(process: Process) -> dict:

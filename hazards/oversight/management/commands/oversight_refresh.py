@@ -12,7 +12,7 @@ from hazards.oversight.tasks import schedule_next
 
 
 class Command(BaseCommand):
-    help = ("Refresh the revalidation due dates of endorsed revisions and send the reminders "
+    help = ("Refresh the revalidation due dates of approved revisions and send the reminders "
             "of findings and revalidations that fall due or are overdue. Running it twice "
             "sends nothing twice. --schedule also queues the daily background run.")
 
