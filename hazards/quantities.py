@@ -9,6 +9,7 @@ so gauge and absolute are never confused.
 
 from __future__ import annotations
 
+import functools
 import math
 import re
 import tokenize
@@ -285,6 +286,35 @@ def from_si(si_value: float | None, *, kind: str) -> float | None:
         return None
     return tidy(to_canonical_exact(si_value, SPECS[kind]))
 
+
+
+@functools.cache
+def _fixed_scale(si_unit: str, unit: str) -> tuple[str, float] | None:
+    """How to reach `unit` from `si_unit` exactly: ('div', size of the unit in SI) when the
+    unit is the larger, ('mul', units per SI unit) when it is the smaller, None for units
+    with an offset (°C, °F), which pint converts itself."""
+    if Q_(0.0, ureg.Unit(si_unit)).to(ureg.Unit(unit)).magnitude != 0:
+        return None
+    size = float(Q_(1.0, ureg.Unit(unit)).to(ureg.Unit(si_unit)).magnitude)
+    if size >= 1.0:
+        return "div", size
+    return "mul", float(Q_(1.0, ureg.Unit(si_unit)).to(ureg.Unit(unit)).magnitude)
+
+
+def si_to_unit(si_value: float, si_unit: str, unit: str) -> float:
+    """An SI magnitude in a fixed unit (the dossier's kW, h, bar abs, %), on pint's registry.
+
+    pint's own float path multiplies by the reciprocal of the unit's size, and 0.001 or 1e-5
+    are not exact in binary: 10 075 W becomes 10.075000000000001 kW and prints 10.08 where
+    10 075 / 1000 prints 10.07. So the exact factor pint gives is applied the exact way
+    round (divide by 1000 W per kW, multiply by 100 % per unit); offset units (°C) go
+    through pint, which subtracts 273.15 as a hand conversion would.
+    """
+    scale = _fixed_scale(si_unit, unit)
+    if scale is None:
+        return float(Q_(si_value, ureg.Unit(si_unit)).to(ureg.Unit(unit)).magnitude)
+    how, factor = scale
+    return si_value / factor if how == "div" else si_value * factor
 
 def display_unit(kind: str) -> str:
     unit = SPECS[kind].canonical_unit

@@ -5,57 +5,69 @@ from __future__ import annotations
 import datetime as dt
 import re
 
-from calcs.constants import T_ZERO_C
 from hazards.models.measures import MeasureKind, MeasureStatus
-from hazards.quantities import format_number
+from hazards.quantities import format_number, si_to_unit
+
+
+def _fixed(label: str, si_unit: str, unit: str):
+    """(unit as printed, SI -> that unit): the dossier's own units, converted on pint's
+    registry (hazards.quantities.si_to_unit), never a person's display units."""
+    return label, lambda value: si_to_unit(value, si_unit, unit)
+
 
 # SI key -> (label, display unit, SI -> display)
-_C = ("°C", lambda k: k - T_ZERO_C)
-_K = ("K", lambda k: k)
-_H = ("h", lambda s: s / 3600)
-_MIN = ("min", lambda s: s / 60)
-_KJKG = ("kJ/kg", lambda j: j / 1000)
-_KW = ("kW", lambda w: w / 1000)
-_BAR = ("bar abs", lambda p: p / 1e5)
+_C = _fixed("°C", "kelvin", "degC")
+_K = _fixed("K", "kelvin", "kelvin")
+_H = _fixed("h", "second", "hour")
+_MIN = _fixed("min", "second", "minute")
+_KJKG = _fixed("kJ/kg", "J/kg", "kJ/kg")
+_KJMOL = _fixed("kJ/mol", "J/mol", "kJ/mol")
+_KW = _fixed("kW", "watt", "kilowatt")
+_BAR = _fixed("bar abs", "pascal", "bar")
+_PERCENT = _fixed("%", "dimensionless", "percent")
+_PER_MIN = _fixed("1/min", "1/second", "1/minute")
+_MOLKG = _fixed("mol/kg", "mol/kg", "mol/kg")
+_MG = _fixed("mg", "kilogram", "milligram")
+_KMIN = _fixed("K/min", "K/s", "K/min")
 _PLAIN = ("", lambda x: x)
 
 INPUTS = [
     # key, label, unit converter, where it comes from
     ("process_temperature_k", "Process temperature Tp", _C, "step"),
-    ("reaction_mass_kg", "Reaction mass (plant)", ("kg", lambda x: x), "step"),
+    ("reaction_mass_kg", "Reaction mass (plant)", _fixed("kg", "kilogram", "kilogram"), "step"),
     ("specific_heat_capacity_j_per_kg_k", "Specific heat capacity cp",
-     ("kJ/(kg·K)", lambda x: x / 1000), "step"),
+     _fixed("kJ/(kg·K)", "J/(kg*K)", "kJ/(kg*K)"), "step"),
     ("operation_mode", "Operation mode", None, "step"),
     ("system", "System", None, "step"),
     ("operating_pressure_pa", "Operating pressure", _BAR, "step"),
     ("dosing_time_s", "Dosing time", _MIN, "step"),
     ("mtt_override_k", "MTT override", _C, "step"),
-    ("initial_mass_fraction", "Initial charge / final mass", ("%", lambda x: x * 100), "step"),
+    ("initial_mass_fraction", "Initial charge / final mass", _PERCENT, "step"),
     ("non_volatile_declared", "Reaction mass declared non-volatile", None, "step"),
     ("non_volatile_reason", "Basis of the non-volatile declaration", None, "step"),
     ("specific_reaction_heat_j_per_kg", "Specific reaction heat Q′", _KJKG, "calorimetry"),
-    ("max_accumulation", "Maximum accumulation", ("%", lambda x: x * 100), "calorimetry"),
-    ("max_heat_release_rate_w_per_kg", "Peak heat-release rate", ("W/kg", lambda x: x),
+    ("max_accumulation", "Maximum accumulation", _PERCENT, "calorimetry"),
+    ("max_heat_release_rate_w_per_kg", "Peak heat-release rate", _fixed("W/kg", "W/kg", "W/kg"),
      "calorimetry"),
-    ("gas_release_mol_per_kg", "Gas release", ("mol/kg", lambda x: x), "calorimetry"),
+    ("gas_release_mol_per_kg", "Gas release", _MOLKG, "calorimetry"),
     ("series_sha256", "Calorimetry series (SHA-256)", None, "calorimetry"),
     ("decomposition_method", "Decomposition test method", None, "decomposition"),
     ("onset_temperature_k", "Onset temperature", _C, "decomposition"),
     ("decomposition_energy_j_per_kg", "Decomposition energy", _KJKG, "decomposition"),
-    ("activation_energy_j_per_mol", "Activation energy Ea", ("kJ/mol", lambda x: x / 1000),
+    ("activation_energy_j_per_mol", "Activation energy Ea", _KJMOL,
      "decomposition"),
     ("reference_temperature_k", "Reference temperature", _C, "decomposition"),
     ("heat_release_rate_at_reference_w_per_kg", "Heat-release rate at reference",
-     ("W/kg", lambda x: x), "decomposition"),
+     _fixed("W/kg", "W/kg", "W/kg"), "decomposition"),
     ("phi_factor", "φ factor of the test", _PLAIN, "decomposition"),
     ("solvent_cas", "Solvent (CAS)", None, "solvent"),
-    ("vessel_heat_transfer_area_m2", "Heat-transfer area", ("m²", lambda x: x), "vessel"),
-    ("vessel_u_w_per_m2_k", "Overall heat-transfer coefficient U", ("W/(m²·K)", lambda x: x),
+    ("vessel_heat_transfer_area_m2", "Heat-transfer area", _fixed("m²", "m**2", "m**2"), "vessel"),
+    ("vessel_u_w_per_m2_k", "Overall heat-transfer coefficient U", _fixed("W/(m²·K)", "W/(m**2*K)", "W/(m**2*K)"),
      "vessel"),
     ("vessel_coolant_temperature_k", "Coolant temperature", _C, "vessel"),
     ("vessel_relief_set_pressure_pa", "Relief set pressure", _BAR, "vessel"),
     ("vessel_design_pressure_pa", "Design pressure", _BAR, "vessel"),
-    ("vessel_headspace_m3", "Headspace volume", ("m³", lambda x: x), "vessel"),
+    ("vessel_headspace_m3", "Headspace volume", _fixed("m³", "m**3", "m**3"), "vessel"),
 ]
 
 INDICATORS = [
@@ -84,23 +96,23 @@ INDICATORS = [
 
 # calcs parameter key -> (label, display unit and SI -> display); text values print as they are.
 PARAMETERS = {
-    "accumulation_at_max_mtsr": ("Accumulation at the MTSR maximum", ("%", lambda x: x * 100)),
-    "max_accumulation": ("Maximum accumulation of the series", ("%", lambda x: x * 100)),
+    "accumulation_at_max_mtsr": ("Accumulation at the MTSR maximum", _PERCENT),
+    "max_accumulation": ("Maximum accumulation of the series", _PERCENT),
     "series_end_criterion": ("End of reaction in the series", None),
     "kissinger_activation_energy_j_per_mol": ("Activation energy Ea (Kissinger fit)",
-                                              ("kJ/mol", lambda x: x / 1000)),
+                                              _KJMOL),
     "kissinger_pre_exponential_per_s": ("Pre-exponential factor A (Kissinger fit)",
-                                        ("1/s", lambda x: x)),
+                                        _fixed("1/s", "1/second", "1/second")),
     "assumed_activation_energy_j_per_mol": ("Activation energy Ea assumed",
-                                            ("kJ/mol", lambda x: x / 1000)),
+                                            _KJMOL),
     "screening_activation_energy_j_per_mol": ("Activation energy Ea assumed for the screen",
-                                              ("kJ/mol", lambda x: x / 1000)),
+                                              _KJMOL),
     "screening_heat_release_rate_w_per_kg": ("Heat-release rate assumed at the onset",
-                                             ("W/kg", lambda x: x)),
+                                             _fixed("W/kg", "W/kg", "W/kg")),
     "td24_label": ("Kind of TD24", None),
     "corrected_onset_k": ("Onset corrected for the φ factor", _C),
     "arc_detection_rate_k_per_s": ("Detection threshold of the adiabatic test",
-                                   ("K/min", lambda x: x * 60)),
+                                   _KMIN),
     "b_parameter_at_mtsr": ("B = Ea·ΔTad,dec / (R·MTSR²) at MTSR", _PLAIN),
     "risk_matrix": ("Risk matrix", None),
     "severity_scale": ("Severity scale", None),
@@ -108,13 +120,13 @@ PARAMETERS = {
     "vapour_pressure_source": ("Vapour-pressure data", None),
     "operating_pressure_pa_assumed": ("Operating pressure assumed", _BAR),
     "pad_pressure_at_process_temperature_pa": ("Pad-gas pressure at Tp", _BAR),
-    "gas_released_mol": ("Gas released in the vessel", ("mol", lambda x: x)),
+    "gas_released_mol": ("Gas released in the vessel", _fixed("mol", "mol", "mol")),
     "accumulation_mass_basis": ("Mass the entered accumulation is referred to", None),
     "accumulation_on_mass_present": ("Largest accumulation on the mass present (final-mass "
-                                     "terms)", ("%", lambda x: x * 100)),
-    "initial_mass_fraction": ("Initial charge / final mass", ("%", lambda x: x * 100)),
+                                     "terms)", _PERCENT),
+    "initial_mass_fraction": ("Initial charge / final mass", _PERCENT),
     "rate_constant_from_accumulation_per_s": ("Rate constant implied by the accumulation",
-                                              ("1/min", lambda x: x * 60)),
+                                              _PER_MIN),
     "lowest_measured_temperature_k": ("Lowest temperature of the decomposition data", _C),
     "td24_extrapolation_k": ("TD24 below the lowest measured temperature", _K),
     "tmr_extrapolation_k": ("MTSR below the lowest measured temperature (TMRad)", _K),
@@ -126,20 +138,20 @@ PARAMETERS = {
     "lab_dosing_time_s": ("Dosing time of the lab run", _MIN),
     "lab_temperature_k": ("Temperature of the lab run", _C),
     "lab_initial_mass_fraction": ("Initial charge / final mass of the lab run",
-                                  ("%", lambda x: x * 100)),
+                                  _PERCENT),
     "plant_dosing_time_s": ("Dosing time at the plant", _MIN),
     "plant_temperature_k": ("Process temperature at the plant", _C),
     "plant_initial_mass_fraction": ("Initial charge / final mass at the plant",
-                                    ("%", lambda x: x * 100)),
+                                    _PERCENT),
     "temperature_shift_k": ("Lab series moved to the plant's temperature by", _K),
     "dosing_model_rate_constant_per_s": ("Rate constant of the dosing model at the plant's "
-                                         "temperature", ("1/min", lambda x: x * 60)),
+                                         "temperature", _PER_MIN),
     "dosing_model_peak_scale": ("Peak factor of the dosing model (measured / model at the lab "
                                 "run, at least 1)", _PLAIN),
     "dosing_activation_energy_j_per_mol": ("Activation energy of the desired reaction",
-                                           ("kJ/mol", lambda x: x / 1000)),
+                                           _KJMOL),
     "accumulation_at_end_of_dosing": ("Accumulation at the end of dosing (plant)",
-                                      ("%", lambda x: x * 100)),
+                                      _PERCENT),
 }
 
 OPERATING_POINT_MODES = {
@@ -346,25 +358,25 @@ def _decomposition_view(d: dict | None) -> dict | None:
     for c in d["curves"]:
         x = c["derived"]
         if x.get("kind") == "dsc":
-            figures = (f"{_number(x['heating_rate_k_per_s'] * 60)} K/min; onset "
+            figures = (f"{_show(x['heating_rate_k_per_s'], _KMIN)[0]} K/min; onset "
                        f"{_show(x.get('onset_k'), _C)[0]} °C (first deviation "
                        f"{_show(x.get('first_deviation_k'), _C)[0]} °C); peak "
                        f"{_show(x.get('peak_k'), _C)[0]} °C; "
-                       f"{_number(x['energy_j_per_kg'] / 1e3)} kJ/kg ({x.get('baseline')} "
+                       f"{_show(x['energy_j_per_kg'], _KJKG)[0]} kJ/kg ({x.get('baseline')} "
                        "baseline)")
         else:
             corr = x.get("corrected") or {}
             gas = (x.get("gas") or {}).get("mol_per_kg")
             figures = (f"φ {_show(x.get('phi'), None)[0]}; onset "
                        f"{_show(x.get('onset_k'), _C)[0]} °C at 0.02 K/min; measured TMR "
-                       f"{_number(x['measured_tmr_s'] / 60)} min; φ-corrected onset "
+                       f"{_show(x['measured_tmr_s'], _MIN)[0]} min; φ-corrected onset "
                        f"{_show(corr.get('onset_k'), _C)[0]} °C, TMR there "
-                       f"{_show(corr.get('tmr_at_onset_s'), ('min', lambda s: s / 60))[0]} "
+                       f"{_show(corr.get('tmr_at_onset_s'), _MIN)[0]} "
                        f"min; max pressure "
-                       f"{_show(x.get('max_pressure_pa'), ('bar', lambda p: p / 1e5))[0]} bar"
-                       f"; gas after cooling {_show(gas, ('mol/kg', lambda v: v))[0]} mol/kg")
+                       f"{_show(x.get('max_pressure_pa'), _BAR)[0]} bar"
+                       f"; gas after cooling {_show(gas, _MOLKG)[0]} mol/kg")
         curves.append({"file_name": c["file_name"], "sha256": c["sha256"],
-                       "sample_mass": _show(c["sample_mass_kg"], ("mg", lambda m: m * 1e6))[0],
+                       "sample_mass": _show(c["sample_mass_kg"], _MG)[0],
                        "figures": figures})
     k = d.get("kinetics") or {}
     params = []
