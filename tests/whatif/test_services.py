@@ -4,6 +4,7 @@ no database needed: the step is given as scenario inputs."""
 from __future__ import annotations
 
 import sys
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -12,6 +13,7 @@ import pytest
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "bench"))
 from bench_whatif import case_and_rows  # noqa: E402
 
+from calcs.semibatch import accumulated_fraction  # noqa: E402
 from hazards.whatif import services  # noqa: E402
 
 
@@ -47,3 +49,21 @@ def test_without_an_activation_energy_the_window_is_one_row_and_says_why():
     assert services.evaluate(case, model, dosing_time_s=3600.0,
                              process_temperature_k=303.5).rate_constant_per_s == \
         model.rate_constant_per_s
+
+
+def test_without_a_series_the_mass_present_is_counted_once():
+    # an entered accumulation 0.166254 at 60 min (METHODS.md C1.7, k = 0.1 1/min) and an
+    # initial charge of 80 % of the final mass: at 120 min the what-if's MTSR is
+    # T_p + X_eff·ΔT_ad with X_eff = max_t a(t)·m_f/m(t) at 120 min, computed here on a 1 s
+    # grid [DERIVED, METHODS.md §1.1 note], not a second mass correction of that number
+    case, _ = case_and_rows("open")
+    case.scenario_inputs = replace(case.scenario_inputs, initial_mass_fraction=0.8)
+    model = services.build_model(case, [])
+    p = services.evaluate(case, model, dosing_time_s=7200.0)
+    t = np.arange(0.0, 7201.0, 1.0)
+    x_eff = float(np.max(accumulated_fraction(t, model.rate_constant_per_s, 7200.0)
+                         / (0.8 + 0.2 * t / 7200.0)))
+    assert p.mtsr_k == pytest.approx(303.15 + 60.0 * x_eff, abs=2e-3)
+    # and at the step's own point the entered number as the step reads it
+    own = services.evaluate(case, model, dosing_time_s=3600.0)
+    assert own.mtsr_k - 273.15 == pytest.approx(40.584, abs=2e-3)  # METHODS.md C1.7
