@@ -82,8 +82,12 @@ def step_list(request):
     }
     qs = selectors.search(qs, filters["q"], "name", "process__name")
     if filters["klass"]:
-        qs = qs.filter(selectors.in_class(
-            None if filters["klass"] == "none" else int(filters["klass"])))
+        # On the joined current snapshot (`klass`), not a second semi-join: PostgreSQL then
+        # reads the class's rows in step order from its index, so that the bounded count
+        # stops after its bound whatever the number of steps of that class (a semi-join
+        # hashed all of them first).
+        qs = (qs.filter(klass__isnull=True) if filters["klass"] == "none"
+              else qs.filter(klass=int(filters["klass"])))
     if filters["mode"]:
         qs = qs.filter(operation_mode=filters["mode"])
     if filters["needs_review"]:

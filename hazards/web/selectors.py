@@ -37,15 +37,6 @@ def steps_with_class(user):
         visible(user, ReactionStep.objects.select_related("process", "process__site")))
 
 
-def in_class(klass: int | None) -> Q:
-    """Steps whose current class is `klass` (None: not assigned), as a semi-join on the
-    current-snapshot class index."""
-    current = IndicatorSnapshot.objects.filter(step=OuterRef("pk"), is_current=True)
-    if klass is None:
-        return ~Exists(current.filter(criticality_class__isnull=False))
-    return Q(Exists(current.filter(criticality_class=klass)))
-
-
 def review_state_subquery():
     """The state people care about: the open revision's, else the newest revision's."""
     newest_open = ProcessRevision.objects.filter(
