@@ -17,6 +17,7 @@ from hazards.models import (
     Solvent,
     Vessel,
 )
+from hazards.presenting import KINDS as INDICATOR_KINDS
 from hazards.quantities import display_unit
 from hazards.services.records import record_create, record_update
 
@@ -111,13 +112,16 @@ class VesselSerializer(RecordSerializer):
         ]
 
 
-# Indicator values: API key -> (key in the snapshot's SI values, quantity kind or None).
+# Indicator values: API key -> key in the snapshot's SI values; the kind of each comes from
+# the presenter's table (hazards.presenting.KINDS), as on the pages and in the dossier.
 INDICATOR_FIELDS = {
-    "adiabatic_temperature_rise": ("adiabatic_temperature_rise_k", "temperature_difference"),
-    "mtsr": ("mtsr_k", "temperature"),
-    "mtt": ("mtt_k", "temperature"),
-    "td24": ("td24_k", "temperature"),
-    "tmr_ad_at_mtsr": ("tmr_ad_at_mtsr_s", "duration_h"),
+    name: (key, INDICATOR_KINDS[key]) for name, key in (
+        ("adiabatic_temperature_rise", "adiabatic_temperature_rise_k"),
+        ("mtsr", "mtsr_k"),
+        ("mtt", "mtt_k"),
+        ("td24", "td24_k"),
+        ("tmr_ad_at_mtsr", "tmr_ad_at_mtsr_s"),
+    )
 }
 
 
@@ -125,6 +129,10 @@ def _quantity(value, kind):
     if value is None:
         return None
     return {"value": canonical(value, kind), "unit": display_unit(kind)}
+
+
+def _indicator(values: dict, key: str):
+    return _quantity(values.get(key), INDICATOR_KINDS[key])
 
 
 def indicators_payload(snapshot: IndicatorSnapshot | None) -> dict | None:
@@ -141,13 +149,13 @@ def indicators_payload(snapshot: IndicatorSnapshot | None) -> dict | None:
         probability=values.get("probability"),
         risk_cell=values.get("risk_cell"),
         cooling_margin=values.get("cooling_margin"),
-        cooling_capacity=_quantity(values.get("cooling_capacity_w"), "power"),
-        plant_peak_heat_release=_quantity(values.get("plant_peak_heat_release_w"), "power"),
-        minimum_dosing_time=_quantity(values.get("minimum_dosing_time_s"), "time"),
-        mtsr_time=_quantity(values.get("mtsr_time_s"), "time"),
-        end_pressure=_quantity(values.get("end_pressure_pa"), "pressure"),
+        cooling_capacity=_indicator(values, "cooling_capacity_w"),
+        plant_peak_heat_release=_indicator(values, "plant_peak_heat_release_w"),
+        minimum_dosing_time=_indicator(values, "minimum_dosing_time_s"),
+        mtsr_time=_indicator(values, "mtsr_time_s"),
+        end_pressure=_indicator(values, "end_pressure_pa"),
         td24_below_process_temperature=values.get("td24_below_process_temperature"),
-        mtt_at_ambient_pressure=_quantity(values.get("mtt_at_ambient_pressure_k"), "temperature"),
+        mtt_at_ambient_pressure=_indicator(values, "mtt_at_ambient_pressure_k"),
         criticality_class_at_ambient_pressure=values.get("criticality_class_at_ambient_pressure"),
         barrier_checks=list(values.get("barrier_checks") or []),
         warnings=list(snapshot.warnings),

@@ -3,9 +3,16 @@
 from __future__ import annotations
 
 import datetime as dt
-import re
 
+from hazards import presenting
 from hazards.models.measures import MeasureKind, MeasureStatus
+from hazards.presenting import (  # noqa: F401 - method_label and point_source: their old home
+    METHOD_LABELS,
+    cited,
+    method_label,
+    method_text,
+    point_source,
+)
 from hazards.quantities import format_number, si_to_unit
 
 
@@ -70,29 +77,12 @@ INPUTS = [
     ("vessel_headspace_m3", "Headspace volume", _fixed("m³", "m**3", "m**3"), "vessel"),
 ]
 
-INDICATORS = [
-    # value key, label, converter, method key
-    ("adiabatic_temperature_rise_k", "Adiabatic temperature rise ΔTad", _K,
-     "adiabatic_temperature_rise"),
-    ("mtsr_k", "MTSR", _C, "mtsr"),
-    ("mtsr_time_s", "Time of the MTSR maximum", _MIN, "mtsr"),
-    ("mtt_k", "MTT", _C, "mtt"),
-    ("mtt_at_ambient_pressure_k", "MTT at 1 atm (if the vacuum is lost)", _C, "mtt"),
-    ("td24_k", "TD24", _C, "td24"),
-    ("tmr_ad_at_mtsr_s", "TMRad at MTSR", _H, "tmr_ad_at_mtsr"),
-    ("criticality_class", "Criticality class", _PLAIN, "criticality_class"),
-    ("criticality_class_at_ambient_pressure", "Criticality class at 1 atm (if the vacuum is lost)",
-     _PLAIN, "criticality_class"),
-    ("severity", "Severity", None, "severity"),
-    ("probability", "Probability", None, "probability"),
-    ("risk_cell", "Risk-matrix cell", None, "risk_cell"),
-    ("cooling_capacity_w", "Cooling capacity", _KW, "cooling_capacity"),
-    ("plant_peak_heat_release_w", "Peak heat release at plant scale", _KW,
-     "plant_peak_heat_release"),
-    ("cooling_margin", "Cooling margin (capacity / peak)", _PLAIN, "cooling_margin"),
-    ("minimum_dosing_time_s", "Minimum dosing time", _MIN, "minimum_dosing_time"),
-    ("end_pressure_pa", "Pressure at MTSR (closed vessel)", _BAR, "end_pressure"),
-]
+# The dossier's fixed unit of each quantity kind of the indicators (hazards.presenting).
+INDICATOR_UNITS = {"temperature": _C, "temperature_difference": _K, "time": _MIN,
+                   "duration_h": _H, "power": _KW, "pressure": _BAR, None: _PLAIN}
+# value key, label, converter, method key: the presenter's table in the dossier's units
+INDICATORS = [(spec.key, spec.short_label, INDICATOR_UNITS[spec.kind], spec.method)
+              for spec in presenting.INDICATORS]
 
 # calcs parameter key -> (label, display unit and SI -> display); text values print as they are.
 PARAMETERS = {
@@ -170,64 +160,6 @@ def parameter_kind(key: str) -> str | None:
     return _KIND_OF.get(PARAMETERS.get(key, (key, None))[1])
 
 
-METHOD_LABELS = {
-    "entered": "entered from the calorimetry run",
-    "series.trapezoid_per_final_mass": "trapezoid integral of the series, per final mass",
-    "adiabatic.specific_heat_over_cp": "ΔTad = Q′ / cp",
-    "adiabatic.endothermic_no_rise": "endothermic reaction: no rise (ΔTad = 0)",
-    "mtsr.batch": "batch: MTSR = Tp + ΔTad",
-    "mtsr.semi_batch.series": "semi-batch, lab series as measured: max of Tr(t) + "
-                              "X_ac(t)·Q/(m(t)·cp) over the series",
-    "mtsr.semi_batch.dosing_model": "semi-batch: dosing model fitted to the lab series, at the "
-                                    "plant's dosing time, temperature and fill (max over time, "
-                                    "mass present)",
-    "mtsr.semi_batch.no_credit": "semi-batch, no dosing model for the plant's point: no credit "
-                                 "for reaction during dosing, Tp + ΔTad",
-    "mtsr.semi_batch.accumulation_on_mass_present":
-        "semi-batch: the dosing model's accumulation on the mass present at this point",
-    "mtsr.semi_batch.max_accumulation": "semi-batch: Tp + X_ac,max·ΔTad (final mass)",
-    "mtsr.semi_batch.max_accumulation_mass_basis":
-        "semi-batch: entered X_ac,max on the mass present (initial charge given)",
-    "mtsr.semi_batch.worst_case_no_accumulation_data": "semi-batch worst case: Tp + ΔTad",
-    "mtt.override": "entered override (reason recorded)",
-    "td24.kinetic": "zero-order kinetics from Ea, Tref, qref",
-    "td24.kinetic_kissinger": "Kissinger fit of DSC peaks, zero order",
-    "td24.adiabatic_phi_corrected": "adiabatic onset, φ-corrected (Fisher-Goetz)",
-    "td24.adiabatic_uncorrected": "adiabatic onset, not φ-corrected",
-    "td24.dsc_onset_screening": "screening estimate from one DSC onset (assumed Ea and q)",
-    "tmr.zero_order": "zero order (Townsend-Tou) from the q(T) behind TD24",
-    "criticality.stoessel": "Stoessel criticality classes (Tp, MTSR, MTT, TD24)",
-    "risk_matrix": "site risk matrix (configuration)",
-    "cooling.ua_delta_t": "U·A·(Tp − Tcoolant)",
-    "cooling.capacity_over_peak": "cooling capacity / peak heat release",
-    "cooling.dosing_controlled_q_tot_over_q_ex": "dosing-controlled: Q_tot / q_ex",
-    "pressure.closed_vessel_at_mtsr": "closed vessel: vapour + pad + gas at MTSR",
-    "severity.synthesis_adiabatic_rise": "from ΔTad of the synthesis",
-    "severity.synthesis_plus_decomposition_adiabatic_rise":
-        "from ΔTad of synthesis plus decomposition",
-    "probability.tmr_ad_at_mtsr": "from TMRad at MTSR",
-    "cooling.lab_specific_peak_times_mass.entered":
-        "entered peak heat-release rate × plant mass",
-    "cooling.lab_specific_peak_times_mass.series": "series peak heat-release rate × plant mass",
-    "cooling.dosing_model_peak_times_mass":
-        "dosing model's peak at the plant's dosing time × plant mass",
-    "cooling.no_credit_peak_times_mass":
-        "no dosing model: the larger of the lab peak and Q′ / plant dosing time, × plant mass",
-}
-
-# the methods whose number depends on where a semi-batch step was evaluated
-_POINT_METHODS = ("mtsr", "plant_peak_heat_release")
-
-def method_label(key: str) -> str:
-    if key in METHOD_LABELS:
-        return METHOD_LABELS[key]
-    if key.startswith("mtt.boiling_point."):
-        return f"boiling point at the operating pressure ({key.rsplit('.', 1)[1]} data)"
-    if key.startswith("mtt.closed_vessel_"):
-        return "closed vessel: temperature at which the pressure reaches the relief set point"
-    return key
-
-
 MODE = {"batch": "batch", "semi_batch": "semi-batch"}
 SYSTEM = {"open": "open (vented)", "closed": "closed"}
 
@@ -286,16 +218,6 @@ def _source(kind: str, prov: dict, inputs: dict) -> str:
     return "—"
 
 
-# Snapshots computed before the labels cited their chapters say how a citation was looked up
-# ("Stoessel 2008, from memory"); a signed dossier prints the citation only.
-_LOOKED_UP = re.compile(r"[,;]?\s*(?:bibliographic\s+)?(?:details\s+)?from memory", re.I)
-
-
-def cited(text: str) -> str:
-    """The text with any note on how its citation was looked up taken out."""
-    return re.sub(r"\s*\(\s*\)", "", _LOOKED_UP.sub("", text)).replace(" )", ")")
-
-
 def parameter_row(key: str, value) -> dict:
     """A parameter a method assumed, with a label and unit a reader knows; the key for tracing."""
     label, conv = PARAMETERS.get(key, (key, None))
@@ -306,26 +228,6 @@ def parameter_row(key: str, value) -> dict:
     else:
         shown, unit = cited(str(value)), ""
     return {"key": key, "label": label, "value": shown, "unit": unit}
-
-
-def point_source(params: dict, inputs: dict) -> str:
-    """Where a semi-batch step's MTSR and peak come from, naming the lab run:
-    "dosing model (series fit) at the plant's 180 min; lab series of calorimetry run #7"."""
-    basis = params.get("operating_point_basis")
-    if not basis:
-        return ""
-    run = (inputs.get("basis") or {}).get("calorimetry_run")
-    if run and params.get("operating_point_mode") in ("series", "model", "no_credit"):
-        return f"{basis}; lab series of calorimetry run #{run}"
-    return basis
-
-
-def method_text(method: str, key: str, params: dict, inputs: dict) -> str:
-    """The label of an indicator's method; for MTSR and the peak of a semi-batch step also
-    where the number came from."""
-    text = cited(method_label(key))
-    source = point_source(params, inputs) if method in _POINT_METHODS else ""
-    return f"{text}; here: {source}" if source else text
 
 
 def operating_point_view(params: dict) -> dict | None:
@@ -415,17 +317,16 @@ def _step(step: dict, context: dict) -> dict:
                            "source": _source(kind, prov, inputs) if inputs.get(key) is not None
                            else "not given", "hash": key == "series_sha256"})
     indicator_rows = []
-    for key, label, conv, method in INDICATORS:
-        value, unit = _show(values.get(key), conv)
-        m = methods.get(method)
-        if key in ("mtsr_time_s", "mtt_at_ambient_pressure_k",
-                   "criticality_class_at_ambient_pressure") and values.get(key) is None:
+    for row in presenting.present(values, methods, params, inputs,
+                                  text=lambda v, kind: _show(v, INDICATOR_UNITS[kind])[0]):
+        if row.key in presenting.ONLY_WHEN_SET and row.si_value is None:
             continue
-        if key == "td24_k" and params.get("td24_label"):
+        label = row.short_label
+        if row.key == "td24_k" and params.get("td24_label"):
             label = f"{label} ({params['td24_label']})"
-        indicator_rows.append({"label": label, "value": value, "unit": unit,
-                               "method": method_text(method, m, params, inputs) if m else "—",
-                               "method_key": m or ""})
+        indicator_rows.append({"label": label, "value": row.text,
+                               "unit": _show(row.si_value, INDICATOR_UNITS[row.kind])[1],
+                               "method": row.method_label, "method_key": row.method_key})
     ser = context.get("series", {}).get(inputs.get("series_sha256") or "")
     td24_low = values.get("td24_below_process_temperature")
     return {

@@ -27,6 +27,8 @@ from hazards.models import (
     Solvent,
     Vessel,
 )
+from hazards.presenting import SPECS as INDICATOR_SPECS
+from hazards.presenting import present_snapshot
 from hazards.review.selectors import record_history
 from hazards.web import display
 
@@ -50,31 +52,8 @@ except ImportError:  # pragma: no cover - the dossier app is optional for the pa
     def parameter_row(key: str, value) -> dict:
         return {"key": key, "label": key, "value": str(value), "unit": ""}
 
-# (snapshot value key, label, quantity kind or None, method key, words that tie warnings to it)
-INDICATORS = [
-    ("adiabatic_temperature_rise_k", "Adiabatic temperature rise ΔTad", "temperature_difference",
-     "adiabatic_temperature_rise", ("ΔTad", "adiabatic")),
-    ("mtsr_k", "MTSR (maximum temperature of the synthesis reaction)", "temperature", "mtsr",
-     ("MTSR", "lab and plant differ")),
-    ("mtsr_time_s", "Time of the MTSR maximum", "time", "mtsr", ()),
-    ("mtt_k", "MTT (maximum technical temperature)", "temperature", "mtt", ("MTT", "boiling")),
-    ("mtt_at_ambient_pressure_k", "MTT at 1 atm (if the vacuum is lost)", "temperature", "mtt",
-     ("vacuum",)),
-    ("criticality_class_at_ambient_pressure", "Criticality class at 1 atm (if the vacuum is lost)",
-     None, "criticality_class", ()),
-    ("td24_k", "TD24 (TMRad = 24 h)", "temperature", "td24", ("TD24", "onset")),
-    ("tmr_ad_at_mtsr_s", "TMRad at MTSR", "duration_h", "tmr_ad_at_mtsr", ("TMRad", "B =")),
-    ("severity", "Severity", None, "severity", ("severity",)),
-    ("probability", "Probability", None, "probability", ("probability",)),
-    ("risk_cell", "Risk-matrix cell", None, "risk_cell", ("risk",)),
-    ("cooling_capacity_w", "Cooling capacity", "power", "cooling_capacity", ("cooling",)),
-    ("plant_peak_heat_release_w", "Peak heat release at plant scale", "power",
-     "plant_peak_heat_release", ("peak", "lab and plant differ")),
-    ("cooling_margin", "Cooling margin (capacity / peak)", None, "cooling_margin", ("margin",)),
-    ("minimum_dosing_time_s", "Minimum dosing time", "time", "minimum_dosing_time", ("dosing",)),
-    ("end_pressure_pa", "Pressure at MTSR (closed vessel)", "pressure", "end_pressure",
-     ("pressure", "relief")),
-]
+# The step page shows the criticality class above the table, not as one of its rows.
+PAGE_OMITS = ("criticality_class",)
 ONLY_WHEN_SET = ("mtt_at_ambient_pressure_k", "criticality_class_at_ambient_pressure")
 KEY_INDICATORS = ("mtsr_k", "mtt_k", "td24_k", "tmr_ad_at_mtsr_s")
 
@@ -99,27 +78,21 @@ def operating_point(snapshot) -> dict | None:
 
 
 def indicator_rows(snapshot) -> list[dict]:
+    """The snapshot's indicators as the presenter labels them (hazards.presenting), in the
+    person's display units, with the warnings that name each."""
     if snapshot is None:
         return []
     values, methods = snapshot.values, snapshot.methods
-    warnings = [str(w) for w in snapshot.warnings]
     rows = []
-    for key, label, kind, method, words in INDICATORS:
-        if key not in values and method not in methods:
+    for row in present_snapshot(snapshot):
+        spec = INDICATOR_SPECS[row.key]
+        if row.key in PAGE_OMITS or (row.key not in values and spec.method not in methods):
             continue
-        if key in ONLY_WHEN_SET and values.get(key) is None:
+        if row.key in ONLY_WHEN_SET and row.si_value is None:
             continue
-        value = values.get(key)
-        shown = display.quantity(value, kind) if kind else (
-            display.number(value) if isinstance(value, int | float) else (value or "—"))
-        method_key = methods.get(method, "")
-        rows.append({
-            "key": key, "label": label, "value": shown, "method": method_text(
-                method, method_key, snapshot.parameters or {}, snapshot.inputs or {})
-            if method_key else "—", "method_key": method_key,
-            "warnings": [w for w in warnings if any(word.lower() in w.lower() for word in words)]
-            if words else [],
-        })
+        rows.append({"key": row.key, "label": row.label, "value": row.text,
+                     "method": row.method_label, "method_key": row.method_key,
+                     "warnings": list(row.warnings)})
     return rows
 
 
