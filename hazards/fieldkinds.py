@@ -111,10 +111,3 @@ LABELS = {
     "antoine_t_max_k": "Antoine range, highest temperature",
     "antoine_source": "Source of the Antoine set",
 }
-
-# The quantity kind of each indicator that has one.
-INDICATOR_KINDS = {"mtsr_k": "temperature", "mtt_k": "temperature", "td24_k": "temperature",
-                   "adiabatic_temperature_rise_k": "temperature_difference",
-                   "tmr_ad_at_mtsr_s": "duration_h", "cooling_capacity_w": "power",
-                   "plant_peak_heat_release_w": "power", "minimum_dosing_time_s": "time",
-                   "mtsr_time_s": "time", "end_pressure_pa": "pressure"}

@@ -3,8 +3,9 @@ values in display units, people by their printed name; never SI key suffixes or 
 
 from __future__ import annotations
 
-from hazards.fieldkinds import INDICATOR_KINDS, LABELS, QUANTITY_FIELDS
+from hazards.fieldkinds import LABELS, QUANTITY_FIELDS
 from hazards.oversight.models import ChangeRecord
+from hazards.presenting import KINDS as INDICATOR_KINDS
 from hazards.quantities import quantity_text
 from hazards.review.selectors import INDICATOR_NAMES
 from hazards.review.signing import printed_name

@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import re
 
-from hazards.fieldkinds import INDICATOR_KINDS, LABELS, QUANTITY_FIELDS
+from hazards.fieldkinds import LABELS, QUANTITY_FIELDS
+from hazards.presenting import KINDS as INDICATOR_KINDS
 from hazards.review.selectors import INDICATOR_NAMES, indicator_differences
 from hazards.web import display
 from hazards.web.indicators import parameter_row

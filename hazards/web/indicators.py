@@ -34,15 +34,11 @@ from hazards.web import display
 
 try:  # the dossier's labels, so a page and its dossier say the same thing
     from hazards.dossier.view import (
-        method_text,
         operating_point_view,
         parameter_kind,
         parameter_row,
     )
 except ImportError:  # pragma: no cover - the dossier app is optional for the pages
-    def method_text(method: str, key: str, params: dict, inputs: dict) -> str:
-        return key
-
     def parameter_kind(key: str) -> str | None:
         return None
 
