@@ -18,6 +18,10 @@ from hazards.dossier.decomposition_charts import (
     scan_data,
     scans_chart,
 )
+
+# The dossier's labels, so a page and its dossier say the same thing (the dossier app is
+# always installed; the pages sit above it in the layers).
+from hazards.dossier.view import operating_point_view, parameter_kind, parameter_row
 from hazards.fieldkinds import LABELS
 from hazards.models import (
     CalorimetryRun,
@@ -31,22 +35,6 @@ from hazards.presenting import SPECS as INDICATOR_SPECS
 from hazards.presenting import present_snapshot
 from hazards.review.selectors import record_history
 from hazards.web import display
-
-try:  # the dossier's labels, so a page and its dossier say the same thing
-    from hazards.dossier.view import (
-        operating_point_view,
-        parameter_kind,
-        parameter_row,
-    )
-except ImportError:  # pragma: no cover - the dossier app is optional for the pages
-    def parameter_kind(key: str) -> str | None:
-        return None
-
-    def operating_point_view(params: dict) -> dict | None:
-        return None
-
-    def parameter_row(key: str, value) -> dict:
-        return {"key": key, "label": key, "value": str(value), "unit": ""}
 
 # The step page shows the criticality class above the table, not as one of its rows.
 PAGE_OMITS = ("criticality_class",)
