@@ -1,5 +1,5 @@
 from hazards.models import identity  # noqa: F401  (identity changes in the trail)
-from hazards.models.indicators import IndicatorSnapshot, PendingRecompute, ProcessClassCount
+from hazards.models.indicators import IndicatorSnapshot, PendingRecompute, ProcessClassTally
 from hazards.models.measurements import (
     BaselineMethod,
     CalorimetryRun,
@@ -35,7 +35,7 @@ __all__ = [
     "MeasurePolicy",
     "MeasureStatus",
     "PendingRecompute",
-    "ProcessClassCount",
+    "ProcessClassTally",
     "Process",
     "ReactionStep",
     "ReliefSystem",

@@ -67,26 +67,34 @@ class PendingRecompute(models.Model):
         return f"step {self.step_id} queued at {self.queued_at}"
 
 
-class ProcessClassCount(models.Model):
-    """How many steps of a process have each current class (0: no class assigned).
+class ProcessClassTally(models.Model):
+    """How many steps of a process have each current class: one row per process.
 
     Kept by a database trigger on the snapshots (and on a step moving to another process)
-    in the same transaction as the snapshot, so the start page counts classes from a few
-    rows per process instead of every step's snapshot. Derived data, not a record: it is
-    not audited, and `hazards.services.indicators.class_counts_rebuild` recounts it."""
+    in the same transaction as the snapshot, so the start page counts classes from one row
+    per visible process instead of every step's snapshot. The counts are in columns, not in
+    a row per class, and no index holds them: a change of class updates the row in place (a
+    heap-only update, no new index entry), so the table stays about one row per process
+    however often classes change (fill factor 70 leaves each page room for it; migration
+    0021). Derived data, not a record: it is not audited, and
+    `hazards.services.indicators.class_counts_rebuild` recounts it."""
 
-    process = models.ForeignKey("hazards.Process", on_delete=models.CASCADE,
-                                related_name="class_counts")
-    klass = models.PositiveSmallIntegerField()
-    steps = models.IntegerField(default=0)
+    process = models.OneToOneField("hazards.Process", on_delete=models.CASCADE,
+                                   primary_key=True, related_name="class_tally")
+    unassigned = models.IntegerField(default=0, help_text="Steps without a class.")
+    class_1 = models.IntegerField(default=0)
+    class_2 = models.IntegerField(default=0)
+    class_3 = models.IntegerField(default=0)
+    class_4 = models.IntegerField(default=0)
+    class_5 = models.IntegerField(default=0)
 
-    class Meta:
-        constraints = [
-            models.UniqueConstraint(fields=["process", "klass"], name="class_count_unique"),
-        ]
-        # The start page reads a person's processes' rows from the index alone.
-        indexes = [models.Index(fields=["process"], include=["klass", "steps"],
-                                condition=Q(steps__gt=0), name="class_count_live_idx")]
+    # klass (0: no class assigned) -> column
+    COLUMNS = {0: "unassigned", 1: "class_1", 2: "class_2", 3: "class_3", 4: "class_4",
+               5: "class_5"}
 
     def __str__(self) -> str:
-        return f"process {self.process_id}: {self.steps} steps of class {self.klass or 'none'}"
+        return f"process {self.process_id}: steps per class {self.counts()}"
+
+    def counts(self) -> dict[int, int]:
+        """{klass: steps} of the classes this process has steps in (0: no class)."""
+        return {k: n for k, column in self.COLUMNS.items() if (n := getattr(self, column))}

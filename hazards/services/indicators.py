@@ -385,7 +385,7 @@ def recompute_steps(step_ids: Iterable[int], *, using: str = "default", force: b
 
 
 def _lock_class_counts(step_ids: list[int], using: str) -> None:
-    """Take the per-process locks of the class counts (`ProcessClassCount`, kept by a
+    """Take the per-process locks of the class counts (`ProcessClassTally`, kept by a
     trigger on the snapshots) in process order, before the trigger takes them row by row."""
     with connections[using].cursor() as cursor:
         cursor.execute(
@@ -452,25 +452,44 @@ WHERE c.is_current GROUP BY 1, 2
 """
 
 
+TALLY_OF_COUNTS_SQL = f"""
+SELECT process_id,
+       coalesce(sum(steps) FILTER (WHERE klass = 0), 0),
+       coalesce(sum(steps) FILTER (WHERE klass = 1), 0),
+       coalesce(sum(steps) FILTER (WHERE klass = 2), 0),
+       coalesce(sum(steps) FILTER (WHERE klass = 3), 0),
+       coalesce(sum(steps) FILTER (WHERE klass = 4), 0),
+       coalesce(sum(steps) FILTER (WHERE klass = 5), 0)
+FROM ({CLASS_COUNTS_SQL}) counts GROUP BY process_id
+"""
+
+
 def class_counts_rebuild(using: str = "default") -> int:
-    """Recount `ProcessClassCount` from the current snapshots (the trigger keeps it; this
+    """Recount `ProcessClassTally` from the current snapshots (the trigger keeps it; this
     repairs it after a restore of part of the tables). Returns the rows that differed."""
     with transaction.atomic(using=using), connections[using].cursor() as cursor:
-        cursor.execute("LOCK TABLE hazards_processclasscount IN EXCLUSIVE MODE")
+        cursor.execute("LOCK TABLE hazards_processclasstally IN EXCLUSIVE MODE")
         cursor.execute(
             f"""
-            WITH truth AS ({CLASS_COUNTS_SQL}),
+            WITH truth(process_id, c0, c1, c2, c3, c4, c5) AS ({TALLY_OF_COUNTS_SQL}),
             fixed AS (
-                INSERT INTO hazards_processclasscount (process_id, klass, steps)
-                SELECT t.process_id, t.klass, t.steps FROM truth t
-                ON CONFLICT (process_id, klass) DO UPDATE SET steps = EXCLUDED.steps
-                WHERE hazards_processclasscount.steps <> EXCLUDED.steps
+                INSERT INTO hazards_processclasstally AS t
+                    (process_id, unassigned, class_1, class_2, class_3, class_4, class_5)
+                SELECT * FROM truth
+                ON CONFLICT (process_id) DO UPDATE SET
+                    unassigned = EXCLUDED.unassigned, class_1 = EXCLUDED.class_1,
+                    class_2 = EXCLUDED.class_2, class_3 = EXCLUDED.class_3,
+                    class_4 = EXCLUDED.class_4, class_5 = EXCLUDED.class_5
+                WHERE (t.unassigned, t.class_1, t.class_2, t.class_3, t.class_4, t.class_5)
+                    IS DISTINCT FROM (EXCLUDED.unassigned, EXCLUDED.class_1, EXCLUDED.class_2,
+                                      EXCLUDED.class_3, EXCLUDED.class_4, EXCLUDED.class_5)
                 RETURNING 1),
             zeroed AS (
-                UPDATE hazards_processclasscount n SET steps = 0
-                WHERE n.steps <> 0 AND NOT EXISTS (
-                    SELECT 1 FROM truth t
-                    WHERE t.process_id = n.process_id AND t.klass = n.klass)
+                UPDATE hazards_processclasstally t SET unassigned = 0, class_1 = 0,
+                    class_2 = 0, class_3 = 0, class_4 = 0, class_5 = 0
+                WHERE (t.unassigned, t.class_1, t.class_2, t.class_3, t.class_4, t.class_5)
+                    <> (0, 0, 0, 0, 0, 0)
+                  AND NOT EXISTS (SELECT 1 FROM truth WHERE truth.process_id = t.process_id)
                 RETURNING 1)
             SELECT (SELECT count(*) FROM fixed) + (SELECT count(*) FROM zeroed)
             """

@@ -4,11 +4,10 @@ from __future__ import annotations
 
 import datetime as dt
 
-from django.db import connection
-from django.db.models import Exists, F, FilteredRelation, OuterRef, Q, Subquery
+from django.db.models import Count, Exists, F, FilteredRelation, OuterRef, Q, Subquery, Sum
 from django.db.models.functions import Coalesce
 
-from hazards.models import IndicatorSnapshot, Process, ProcessClassCount, ReactionStep
+from hazards.models import IndicatorSnapshot, Process, ProcessClassTally, ReactionStep
 from hazards.review.access import is_administrator, processes_of, visible
 from hazards.review.models import (
     OPEN_STATES,
@@ -83,33 +82,23 @@ def waiting_for(user) -> dict:
 
 def class_counts(user) -> list[dict]:
     """Steps per class, and processes per the highest class among their steps, from the
-    per-process counts the snapshot trigger keeps (`ProcessClassCount`): one grouped query
-    over a few rows per visible process, not over every step's snapshot."""
-    counts = ProcessClassCount.objects.filter(steps__gt=0)
+    one row per visible process the snapshot trigger keeps (`ProcessClassTally`): one
+    aggregate query, not a read of every step's snapshot. A process without steps counts
+    nowhere; one counts as unassigned only when none of its steps has a class."""
+    tallies = ProcessClassTally.objects.all()
     if not is_administrator(user):
-        counts = counts.filter(process__in=processes_of(user))
-    with connection.cursor() as cursor:
-        sql, params = counts.values("process_id", "klass", "steps").query.sql_with_params()
-        # Per class: steps and processes whose highest class it is (0: no class assigned;
-        # a process counts as unassigned only when none of its steps has a class).
-        cursor.execute(
-            f"""
-            WITH c AS ({sql}),
-            worst AS (SELECT process_id, max(klass) AS klass FROM c GROUP BY process_id)
-            SELECT k.klass, coalesce(s.steps, 0), coalesce(w.processes, 0)
-            FROM (SELECT DISTINCT klass FROM c) k
-            LEFT JOIN (SELECT klass, sum(steps) AS steps FROM c GROUP BY klass) s
-                 ON s.klass = k.klass
-            LEFT JOIN (SELECT klass, count(*) AS processes FROM worst GROUP BY klass) w
-                 ON w.klass = k.klass
-            """,
-            params,
-        )
-        found = {klass or None: (int(steps), processes)
-                 for klass, steps, processes in cursor.fetchall()}
-    return [{"klass": value, "count": found.get(value, (0, 0))[0],
-             "processes": found.get(value, (0, 0))[1], "param": value or "none"}
-            for value in (5, 4, 3, 2, 1, None)]
+        tallies = tallies.filter(process__in=processes_of(user))
+    columns = ProcessClassTally.COLUMNS
+    aggregates = {f"steps_{k}": Sum(column, default=0) for k, column in columns.items()}
+    for k in columns:
+        # Its worst class is k: a step of class k and none of a higher class.
+        higher = Q(**{columns[j]: 0 for j in range(k + 1, 6)})
+        aggregates[f"processes_{k}"] = Count(
+            "pk", filter=Q(**{f"{columns[k]}__gt": 0}) & higher)
+    found = tallies.aggregate(**aggregates)
+    return [{"klass": k or None, "count": found[f"steps_{k}"],
+             "processes": found[f"processes_{k}"], "param": k or "none"}
+            for k in (5, 4, 3, 2, 1, 0)]
 
 
 def stale_approvals(user):

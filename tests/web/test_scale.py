@@ -54,7 +54,7 @@ def test_class_counts_are_one_grouped_query_that_agrees_with_counting_in_python(
     with django_assert_max_num_queries(1) as captured:
         rows = selectors.class_counts(user)
     # read from the per-process counts, not from every step's snapshot
-    assert "hazards_processclasscount" in captured[0]["sql"]
+    assert "hazards_processclasstally" in captured[0]["sql"]
     assert "hazards_indicatorsnapshot" not in captured[0]["sql"]
     assert {r["klass"]: r["count"] for r in rows} == {
         k: per_step.get(k, 0) for k in (5, 4, 3, 2, 1, None)
@@ -74,10 +74,10 @@ def _truth() -> dict:
 
 
 def _kept() -> dict:
-    from hazards.models import ProcessClassCount
+    from hazards.models import ProcessClassTally
 
-    return {(c.process_id, c.klass): c.steps
-            for c in ProcessClassCount.objects.filter(steps__gt=0)}
+    return {(t.process_id, k): n for t in ProcessClassTally.objects.all()
+            for k, n in t.counts().items()}
 
 
 def test_the_kept_class_counts_follow_every_change_of_a_current_class():
@@ -117,10 +117,10 @@ def test_the_kept_class_counts_follow_every_change_of_a_current_class():
     Process.objects.filter(pk=doomed.pk).delete()
     assert _kept() == _truth()
     assert class_counts_rebuild() == 0  # nothing to repair
-    from hazards.models import ProcessClassCount
+    from hazards.models import ProcessClassTally
 
-    ProcessClassCount.objects.filter(pk=ProcessClassCount.objects.filter(steps__gt=0)
-                                     .values("pk")[:1]).update(steps=99)
+    ProcessClassTally.objects.filter(pk=ProcessClassTally.objects.values("pk")[:1]).update(
+        class_5=99)
     assert class_counts_rebuild() == 1 and _kept() == _truth()
 
 
@@ -163,11 +163,11 @@ def test_the_class_column_and_sort_are_a_join_not_a_subquery_per_row(people):
 
 
 def _statistics_tables() -> list[str]:
-    from hazards.models import IndicatorSnapshot, Process, ProcessClassCount, ReactionStep
+    from hazards.models import IndicatorSnapshot, Process, ProcessClassTally, ReactionStep
     from hazards.review.models import ProcessListState, ProcessRole
 
     return [m._meta.db_table for m in (ReactionStep, IndicatorSnapshot, Process,
-                                       ProcessClassCount, ProcessRole, ProcessListState)]
+                                       ProcessClassTally, ProcessRole, ProcessListState)]
 
 
 def _analyse() -> None:
@@ -259,21 +259,48 @@ def test_the_start_page_reads_flagged_steps_and_live_counts_from_their_indexes(p
     _more_processes(people, 2)
     stale = _plan(selectors.stale_approvals(people["reviewer"])[:50])
     assert "step_needs_review_idx" in stale, stale
-    from hazards.models import ProcessClassCount
-
-    # The class counts: on tables of a test's size the covering partial index and the
-    # foreign-key index cost the planner the same, so which one it takes is chance (with
-    # statistics it took the other). What is pinned: the query reads an index, never the
-    # table, and the covering index the start page relies on at scale (README, Evidence)
-    # exists as designed: the person's processes' live rows, class and count in the index.
-    counts = ProcessClassCount.objects.filter(steps__gt=0, process_id__in=[process.pk])
-    plan = _plan(counts.values("process_id", "klass", "steps"))
-    assert "Seq Scan" not in plan and "Index" in plan, plan
+    # The class counts: one row per process, its counts in columns no index holds, and the
+    # person's processes from the (user, role, process) index of the roles.
     with connection.cursor() as cursor:
+        cursor.execute("SELECT indexname FROM pg_indexes WHERE tablename = %s",
+                       ["hazards_processclasstally"])
+        assert [name for (name,) in cursor.fetchall()] == ["hazards_processclasstally_pkey"]
         cursor.execute("SELECT indexdef FROM pg_indexes WHERE indexname = %s",
-                       ["class_count_live_idx"])
+                       ["role_of_person_idx"])
         (definition,) = cursor.fetchone()
-    assert "(process_id) INCLUDE (klass, steps) WHERE (steps > 0)" in definition, definition
+    assert "(user_id, role, process_id)" in definition, definition
+    roles = ProcessRole.objects.filter(user=people["reviewer"], role="auditor")
+    assert "role_of_person_idx" in _plan(roles.values("process_id")[:1])
+
+
+def test_a_change_of_class_updates_the_tally_in_place(people, process):
+    """Classes change often (every recompute may move a step); the tally's row is updated
+    heap-only (no new index entry, so neither table nor index grows with the changes) and
+    the site keeps one row per process."""
+    from hazards.models import DecompositionTest, ProcessClassTally
+    from hazards.services.indicators import flush_pending
+
+    _more_processes(people, 3, steps_each=3)
+    before = _kept()
+
+    def updates():
+        with connection.cursor() as cursor:
+            cursor.execute(
+                "SELECT n_tup_upd, n_tup_hot_upd FROM pg_stat_xact_user_tables "
+                "WHERE relname = 'hazards_processclasstally'")
+            return cursor.fetchone()
+
+    upd0, hot0 = updates()
+    for shift in (-120, 120, -120):
+        with transaction.atomic():
+            DecompositionTest.objects.update(
+                onset_temperature_k=F("onset_temperature_k") + shift)
+            flush_pending()
+    upd, hot = updates()
+    assert _kept() != before and _kept() == _truth()
+    assert upd - upd0 >= 6, (upd0, upd)  # classes did change, in several processes
+    assert hot - hot0 == upd - upd0, ((upd0, hot0), (upd, hot))
+    assert ProcessClassTally.objects.count() == len({p for p, _ in _kept()})
 
 
 def _state_by_subquery() -> dict:
