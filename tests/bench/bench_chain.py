@@ -42,12 +42,14 @@ from tests.bench.load_test import (  # noqa: E402
 
 def use_design(design: str) -> None:
     """Install the chain's triggers of one design on every event table."""
-    from django.db import connection
+    from django.db import connections
 
+    from hazards.db import owner_alias
     from hazards.review import audit
 
     legacy = importlib.import_module("hazards.review.migrations.0002_audit_chain")
-    with connection.cursor() as cursor:
+    # As the owner of the tables: the application's role may not touch triggers.
+    with connections[owner_alias()].cursor() as cursor:
         tables = audit.existing_event_tables(cursor)
         for table in tables:
             cursor.execute(f'DROP TRIGGER IF EXISTS {audit.TRIGGER_NAME} ON "{table}"')
@@ -59,7 +61,7 @@ def use_design(design: str) -> None:
                     "FOR EACH ROW EXECUTE FUNCTION review_chain_append()"
                 )
         else:
-            audit.install_chain_triggers()
+            audit.install_chain_triggers(using=owner_alias())
 
 
 def one_write(step, mass: float) -> None:
